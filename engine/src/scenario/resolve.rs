@@ -1,0 +1,1009 @@
+//! From a parsed scenario to engine inputs in SI units, refusing anything
+//! unphysical with its reason and the key it came from.
+
+use super::distribution::{ClassShare, Distribution};
+use super::error::Problem;
+use super::locate::Locations;
+use super::spec::*;
+use super::units::Loading;
+use crate::physics::drag::DragLaw;
+use crate::physics::hindered::{ExponentRule, HinderedLaw};
+use crate::physics::terminal::{Terminal, relaxation_time, terminal_velocity};
+use crate::physics::{Fluid, Particle, STANDARD_GRAVITY, water};
+use std::path::PathBuf;
+
+/// Smallest particle turbid accepts: below about 0.1 µm Brownian motion, not
+/// gravity, decides where particles go (common practice).
+pub const MIN_DIAMETER: f64 = 0.1e-6;
+/// Largest particle: the drag correlations end near Re ≈ 2×10⁵, reached by
+/// dense grains of about 100 mm in water.
+pub const MAX_DIAMETER: f64 = 0.1;
+/// Upper bound on the packing limit: even strongly polydisperse beds stay below it.
+pub const MAX_PACKING_LIMIT: f64 = 0.9;
+/// Most size classes per species.
+pub const MAX_CLASSES: u32 = 64;
+
+/// How the particle shape enters the drag law.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Shape {
+    Sphere,
+    NonSpherical { sphericity: f64 },
+    NaturalGrains,
+}
+
+/// A solid species after resolution.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Species {
+    pub name: String,
+    /// Solid density, kg/m³.
+    pub density: f64,
+    pub shape: Shape,
+    /// Share of the total solids volume.
+    pub volume_share: f64,
+}
+
+/// One size class of one species, with its single-particle settling data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SizeClass {
+    pub species: usize,
+    /// Class bounds and representative diameter, m.
+    pub lower: f64,
+    pub upper: f64,
+    pub diameter: f64,
+    /// Share of the total solids volume.
+    pub volume_share: f64,
+    pub drag: DragLaw,
+    /// Terminal settling in the clear fluid.
+    pub terminal: Terminal,
+    /// Velocity relaxation time, s.
+    pub relaxation_time: f64,
+    /// Hindered-settling exponent n for this class.
+    pub exponent: f64,
+}
+
+/// The batch column.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Column {
+    /// Fill height, m.
+    pub height: f64,
+    /// Cross-section area, m².
+    pub area: f64,
+    /// Diameter for wall effects: the diameter of a round column, 4A/P of a rectangular one, m.
+    pub wall_diameter: f64,
+    /// Human-readable cross-section.
+    pub description: String,
+}
+
+/// Which hindered-settling law applies (the exponent is per class).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum HinderedChoice {
+    RichardsonZaki,
+    MichaelsBolger,
+    /// v0 in m/s, k in m³/kg.
+    Vesilind {
+        v0: f64,
+        k: f64,
+    },
+}
+
+/// Run control in SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunControl {
+    pub end_time: f64,
+    pub output_interval: f64,
+    pub parcels: u64,
+    pub seed: u64,
+}
+
+/// Output settings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct OutputControl {
+    pub file: PathBuf,
+    pub height_bins: usize,
+}
+
+/// A checked scenario, ready for an engine.
+#[derive(Debug, Clone)]
+pub struct Setup {
+    pub title: String,
+    pub gravity: f64,
+    pub fluid: Fluid,
+    /// Where the fluid properties come from.
+    pub fluid_source: String,
+    /// Water temperature, K, when the fluid is water.
+    pub temperature: Option<f64>,
+    pub species: Vec<Species>,
+    pub classes: Vec<SizeClass>,
+    pub column: Column,
+    /// Initial solids volume fraction φ0.
+    pub initial_volume_fraction: f64,
+    pub max_packing: f64,
+    pub hindered: HinderedChoice,
+    pub run: RunControl,
+    pub output: OutputControl,
+    /// Things the user should know that do not stop the run.
+    pub warnings: Vec<Problem>,
+}
+
+impl Setup {
+    /// Hindered-settling law of one class.
+    pub fn hindered_law(&self, class: &SizeClass) -> HinderedLaw {
+        match self.hindered {
+            HinderedChoice::RichardsonZaki => HinderedLaw::RichardsonZaki { n: class.exponent },
+            HinderedChoice::MichaelsBolger => HinderedLaw::MichaelsBolger { n: class.exponent },
+            HinderedChoice::Vesilind { v0, k } => HinderedLaw::Vesilind {
+                v0,
+                k,
+                solid_density: self.species[class.species].density,
+            },
+        }
+    }
+
+    /// Hindered settling velocity of a class in the initial suspension, m/s.
+    pub fn initial_hindered_velocity(&self, class: &SizeClass) -> f64 {
+        self.hindered_law(class).velocity(
+            class.terminal.velocity,
+            self.initial_volume_fraction,
+            self.max_packing,
+        )
+    }
+
+    /// Mean solid density, kg/m³ (volume-weighted over species).
+    pub fn mean_solid_density(&self) -> f64 {
+        self.species
+            .iter()
+            .map(|s| s.volume_share * s.density)
+            .sum()
+    }
+
+    /// Time step the particle engine would start from: a Courant number of
+    /// 0.5 on one height bin for the fastest class.
+    pub fn suggested_time_step(&self) -> f64 {
+        let vmax = self
+            .classes
+            .iter()
+            .map(|c| c.terminal.velocity)
+            .fold(0.0, f64::max);
+        let dz = self.column.height / self.output.height_bins as f64;
+        (0.5 * dz / vmax).min(self.run.output_interval)
+    }
+}
+
+/// Collects problems and warnings, each located through the key path.
+struct Checker<'a> {
+    locs: &'a Locations,
+    problems: Vec<Problem>,
+    warnings: Vec<Problem>,
+}
+
+impl Checker<'_> {
+    fn problem(&self, key: &str, message: String, hint: Option<String>) -> Problem {
+        let (line, column) = match self.locs.find(key) {
+            Some((l, c)) => (Some(l), Some(c)),
+            None => (None, None),
+        };
+        Problem {
+            key: key.to_string(),
+            message,
+            hint,
+            line,
+            column,
+        }
+    }
+    fn refuse(&mut self, key: &str, message: impl Into<String>, hint: impl Into<String>) {
+        let hint = hint.into();
+        let p = self.problem(key, message.into(), (!hint.is_empty()).then_some(hint));
+        self.problems.push(p);
+    }
+    fn warn(&mut self, key: &str, message: impl Into<String>) {
+        let p = self.problem(key, message.into(), None);
+        self.warnings.push(p);
+    }
+    /// Refuse a non-positive or non-finite value; returns whether it was fine.
+    fn positive(&mut self, key: &str, value: f64, what: &str, unit: &str) -> bool {
+        if value.is_finite() && value > 0.0 {
+            return true;
+        }
+        self.refuse(
+            key,
+            format!("{what} must be positive, found {} {unit}", fmt_si(value)),
+            "check the sign and the unit of this value",
+        );
+        false
+    }
+}
+
+/// A value in SI with four significant digits, e.g. `-9.800e-5` or `2650`.
+fn fmt_si(v: f64) -> String {
+    let a = v.abs();
+    if v == 0.0 || (1e-2..1e5).contains(&a) {
+        format!("{v}")
+    } else {
+        format!("{v:.3e}")
+    }
+}
+
+fn um(d: f64) -> String {
+    format!("{:.4} µm", d * 1e6)
+}
+
+/// Resolve a parsed scenario. `locs` locates keys in the source text.
+pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Problem>> {
+    let mut ck = Checker {
+        locs,
+        problems: Vec::new(),
+        warnings: Vec::new(),
+    };
+    let g = STANDARD_GRAVITY;
+
+    if spec.format != 1 {
+        ck.refuse(
+            "format",
+            format!("scenario format {} is not known to this build", spec.format),
+            "this build of turbid reads `format: 1`",
+        );
+    }
+
+    // Fluid.
+    let (fluid, fluid_source, temperature) = match &spec.fluid {
+        FluidSpec::Water { temperature } => {
+            let tc = temperature.si() - 273.15;
+            if !(water::MIN_CELSIUS..=water::MAX_CELSIUS).contains(&tc) {
+                ck.refuse(
+                    "fluid.water.temperature",
+                    format!(
+                        "{tc:.2} °C is outside the liquid range of water at atmospheric pressure ({} to {} °C)",
+                        water::MIN_CELSIUS,
+                        water::MAX_CELSIUS
+                    ),
+                    "give a temperature between 0 and 100 °C, or describe the liquid as `newtonian` with its density and viscosity",
+                );
+                (
+                    Fluid {
+                        density: 1000.0,
+                        viscosity: 1e-3,
+                    },
+                    String::new(),
+                    None,
+                )
+            } else {
+                (
+                    Fluid {
+                        density: water::density(tc),
+                        viscosity: water::viscosity(tc),
+                    },
+                    format!(
+                        "water at {tc:.2} °C, 0.101325 MPa (density IAPWS-95, viscosity IAPWS 2008)"
+                    ),
+                    Some(temperature.si()),
+                )
+            }
+        }
+        FluidSpec::Newtonian { density, viscosity } => {
+            ck.positive(
+                "fluid.newtonian.density",
+                density.si(),
+                "fluid density",
+                "kg/m³",
+            );
+            ck.positive(
+                "fluid.newtonian.viscosity",
+                viscosity.si(),
+                "fluid viscosity",
+                "Pa·s",
+            );
+            (
+                Fluid {
+                    density: density.si(),
+                    viscosity: viscosity.si(),
+                },
+                "Newtonian liquid as given".to_string(),
+                None,
+            )
+        }
+    };
+
+    // Vessel.
+    let column = match &spec.vessel {
+        VesselSpec::Column {
+            height,
+            cross_section,
+        } => {
+            ck.positive("vessel.column.height", height.si(), "column height", "m");
+            let (area, wall_diameter, description) = match cross_section {
+                CrossSectionSpec::Round { diameter } => {
+                    let d = diameter.si();
+                    ck.positive(
+                        "vessel.column.cross_section.round.diameter",
+                        d,
+                        "column diameter",
+                        "m",
+                    );
+                    (
+                        std::f64::consts::PI / 4.0 * d * d,
+                        d,
+                        format!("round, {:.1} mm diameter", d * 1e3),
+                    )
+                }
+                CrossSectionSpec::Rectangular { width, depth } => {
+                    let (w, dp) = (width.si(), depth.si());
+                    ck.positive(
+                        "vessel.column.cross_section.rectangular.width",
+                        w,
+                        "column width",
+                        "m",
+                    );
+                    ck.positive(
+                        "vessel.column.cross_section.rectangular.depth",
+                        dp,
+                        "column depth",
+                        "m",
+                    );
+                    (
+                        w * dp,
+                        2.0 * w * dp / (w + dp),
+                        format!("rectangular, {:.1} × {:.1} mm", w * 1e3, dp * 1e3),
+                    )
+                }
+            };
+            Column {
+                height: height.si(),
+                area,
+                wall_diameter,
+                description,
+            }
+        }
+    };
+
+    // Models.
+    let max_packing = spec.models.max_packing;
+    if !(max_packing > 0.0 && max_packing <= MAX_PACKING_LIMIT) {
+        ck.refuse(
+            "models.max_packing",
+            format!(
+                "maximum packing fraction must lie in (0, {MAX_PACKING_LIMIT}], found {max_packing}"
+            ),
+            "random close packing of equal spheres is 0.64; settled beds are typically 0.55–0.65",
+        );
+    } else if !(0.45..=0.75).contains(&max_packing) {
+        ck.warn(
+            "models.max_packing",
+            format!("maximum packing fraction {max_packing} is unusual; settled beds of non-colloidal particles are typically 0.55–0.65"),
+        );
+    }
+    let (hindered, exponent_spec) = match &spec.models.hindered {
+        HinderedSpec::RichardsonZaki { exponent } => (HinderedChoice::RichardsonZaki, *exponent),
+        HinderedSpec::MichaelsBolger { exponent } => (HinderedChoice::MichaelsBolger, *exponent),
+        HinderedSpec::Vesilind { v0, k } => {
+            ck.positive("models.hindered.vesilind.v0", v0.si(), "Vesilind v0", "m/s");
+            ck.positive("models.hindered.vesilind.k", k.si(), "Vesilind k", "m³/kg");
+            (
+                HinderedChoice::Vesilind {
+                    v0: v0.si(),
+                    k: k.si(),
+                },
+                ExponentSpec::Auto,
+            )
+        }
+    };
+    let exponent_key = match &spec.models.hindered {
+        HinderedSpec::RichardsonZaki { .. } => "models.hindered.richardson_zaki.exponent",
+        _ => "models.hindered.michaels_bolger.exponent",
+    };
+    if let ExponentSpec::Fixed(n) = exponent_spec {
+        if !(n.is_finite() && n > 1.0) {
+            ck.refuse(
+                exponent_key,
+                format!("the hindered-settling exponent must exceed 1, found {n}"),
+                "Richardson–Zaki found n from 2.39 (turbulent) to 4.65 (creeping flow); write `auto` to compute it",
+            );
+        } else if !(2.0..=6.0).contains(&n) {
+            ck.warn(
+                exponent_key,
+                format!("exponent n = {n} lies outside the 2–6 range seen in experiments"),
+            );
+        }
+    }
+
+    // Species.
+    if spec.solids.is_empty() {
+        ck.refuse(
+            "solids",
+            "at least one solid species is needed",
+            "add a list item under `solids:`",
+        );
+    }
+    let many = spec.solids.len() > 1;
+    let mut species = Vec::new();
+    let mut mass_shares = Vec::new();
+    let mut class_shares: Vec<Vec<ClassShare>> = Vec::new();
+    for (i, s) in spec.solids.iter().enumerate() {
+        let key = format!("solids[{i}]");
+        let rho = s.density.si();
+        if ck.positive(&format!("{key}.density"), rho, "particle density", "kg/m³")
+            && rho <= fluid.density
+        {
+            ck.refuse(
+                &format!("{key}.density"),
+                format!(
+                    "particles of {} kg/m³ are not denser than the fluid ({:.1} kg/m³): they would not settle",
+                    fmt_si(rho),
+                    fluid.density
+                ),
+                "give the density of the solid material itself (not its bulk density); floating particles are outside turbid's scope",
+            );
+        }
+        let shape = match &s.shape {
+            ShapeSpec::Sphere => Shape::Sphere,
+            ShapeSpec::NaturalGrains => Shape::NaturalGrains,
+            ShapeSpec::NonSpherical { sphericity } => {
+                let psi = *sphericity;
+                if !(psi > 0.0 && psi <= 1.0) {
+                    ck.refuse(
+                        &format!("{key}.shape.non_spherical.sphericity"),
+                        format!("sphericity must lie in (0, 1], found {psi}"),
+                        "a sphere has sphericity 1; a cube 0.806; typical sand grains 0.7–0.9",
+                    );
+                } else if psi < 0.026 {
+                    ck.warn(
+                        &format!("{key}.shape.non_spherical.sphericity"),
+                        "sphericity below 0.026 lies outside the data Haider–Levenspiel fitted",
+                    );
+                }
+                Shape::NonSpherical { sphericity: psi }
+            }
+        };
+        let share = match (s.mass_share, many) {
+            (Some(f), _) => {
+                if !(f.0 > 0.0 && f.0 <= 1.0) {
+                    ck.refuse(
+                        &format!("{key}.mass_share"),
+                        format!("mass share must lie in (0, 1], found {}", f.0),
+                        "write a fraction such as 0.35 or a percentage such as \"35 %\"",
+                    );
+                }
+                f.0
+            }
+            (None, false) => 1.0,
+            (None, true) => {
+                ck.refuse(
+                    &key,
+                    format!("species `{}` has no `mass_share`", s.name),
+                    "with several species, give each one's share of the dry solids, e.g. `mass_share: \"35 %\"`",
+                );
+                0.0
+            }
+        };
+        mass_shares.push(share);
+
+        let dist = size_distribution(&mut ck, &format!("{key}.size"), &s.size);
+        let n = match (&s.size, s.size_classes) {
+            (SizeSpec::Single(_), Some(n)) if n != 1 => {
+                ck.refuse(
+                    &format!("{key}.size_classes"),
+                    format!("a single size makes one class, not {n}"),
+                    "remove `size_classes` or describe a distribution",
+                );
+                1
+            }
+            (_, Some(n)) if n == 0 || n > MAX_CLASSES => {
+                ck.refuse(
+                    &format!("{key}.size_classes"),
+                    format!("size classes must be between 1 and {MAX_CLASSES}, found {n}"),
+                    "6–12 classes resolve most distributions",
+                );
+                1
+            }
+            (SizeSpec::Single(_), None) => 1,
+            (_, Some(n)) => n as usize,
+            (_, None) => 8,
+        };
+        let cls = dist
+            .as_ref()
+            .map(|d| d.classes(n, (MIN_DIAMETER, MAX_DIAMETER)))
+            .unwrap_or_default();
+        if let Some(d) = &dist {
+            let colloidal = d.passing(MIN_DIAMETER);
+            if colloidal > 0.01 {
+                ck.warn(
+                    &format!("{key}.size"),
+                    format!(
+                        "{:.1} % of the solids is finer than {}; it is represented by the finest class, which overstates its settling (Brownian motion keeps such fines suspended)",
+                        colloidal * 100.0,
+                        um(MIN_DIAMETER)
+                    ),
+                );
+            }
+        }
+        let out_of_range = dist.is_some() && cls.is_empty();
+        for c in &cls {
+            if c.diameter < MIN_DIAMETER || c.diameter > MAX_DIAMETER {
+                ck.refuse(
+                    &format!("{key}.size"),
+                    format!(
+                        "particle size {} lies outside the {} – {} mm range turbid covers",
+                        um(c.diameter),
+                        um(MIN_DIAMETER),
+                        MAX_DIAMETER * 1e3
+                    ),
+                    "below 0.1 µm Brownian motion dominates settling; above 100 mm the drag laws end",
+                );
+                break;
+            }
+        }
+        if out_of_range {
+            ck.refuse(
+                &format!("{key}.size"),
+                format!(
+                    "the size distribution lies outside the {} – {} mm range turbid covers",
+                    um(MIN_DIAMETER),
+                    MAX_DIAMETER * 1e3
+                ),
+                "below 0.1 µm Brownian motion dominates settling; above 100 mm the drag laws end",
+            );
+        }
+        if let Some(Distribution::Table(rows)) = &dist
+            && rows[0].1 > 0.05
+        {
+            ck.warn(
+                &format!("{key}.size"),
+                format!(
+                    "{:.1} % of the solids is finer than the finest size given ({}); it is treated as particles of that size, which overstates their settling",
+                    rows[0].1 * 100.0,
+                    um(rows[0].0)
+                ),
+            );
+        }
+        class_shares.push(cls);
+        species.push(Species {
+            name: s.name.clone(),
+            density: rho,
+            shape,
+            volume_share: 0.0,
+        });
+    }
+    if many && ck.problems.is_empty() {
+        let total: f64 = mass_shares.iter().sum();
+        if (total - 1.0).abs() > 1e-6 {
+            ck.refuse(
+                "solids",
+                format!("species mass shares add up to {:.4}, not 1", total),
+                "the shares are fractions of the dry solids and must add up to 1 (100 %)",
+            );
+        }
+    }
+
+    // Volume shares from mass shares, and the mean solid density.
+    let vol: Vec<f64> = species
+        .iter()
+        .zip(&mass_shares)
+        .map(|(s, w)| if s.density > 0.0 { w / s.density } else { 0.0 })
+        .collect();
+    let vol_total: f64 = vol.iter().sum();
+    for (s, v) in species.iter_mut().zip(&vol) {
+        s.volume_share = if vol_total > 0.0 { v / vol_total } else { 0.0 };
+    }
+    let rho_s_mean: f64 = species.iter().map(|s| s.volume_share * s.density).sum();
+
+    // Initial loading as a volume fraction.
+    let phi0 = match spec.initial.loading {
+        Loading::VolumeFraction(v) => v,
+        Loading::MassConcentration(c) => c / rho_s_mean,
+        Loading::MassFraction(w) => {
+            if !(0.0..1.0).contains(&w) {
+                f64::NAN
+            } else {
+                (w / rho_s_mean) / (w / rho_s_mean + (1.0 - w) / fluid.density)
+            }
+        }
+    };
+    if ck.problems.is_empty() {
+        if !(phi0.is_finite() && phi0 > 0.0) {
+            ck.refuse(
+                "initial.loading",
+                "the solids loading must be positive (and a mass fraction below 100 %)",
+                "write e.g. \"8 vol%\", \"25 wt%\" or \"120 g/L\"",
+            );
+        } else if phi0 >= max_packing {
+            ck.refuse(
+                "initial.loading",
+                format!(
+                    "a loading of {:.2} vol% is at or above the maximum packing fraction ({:.2} vol%): the suspension would already be a bed",
+                    phi0 * 100.0,
+                    max_packing * 100.0
+                ),
+                "lower the loading, or raise `models.max_packing` if the bed really packs denser",
+            );
+        }
+    }
+
+    // Run and output.
+    let run = RunControl {
+        end_time: spec.run.end_time.si(),
+        output_interval: spec.run.output_interval.si(),
+        parcels: spec.run.parcels,
+        seed: spec.run.seed,
+    };
+    if ck.positive("run.end_time", run.end_time, "end time", "s")
+        && ck.positive(
+            "run.output_interval",
+            run.output_interval,
+            "output interval",
+            "s",
+        )
+    {
+        if run.output_interval > run.end_time {
+            ck.refuse(
+                "run.output_interval",
+                "the output interval is longer than the run",
+                "make `output_interval` at most `end_time`",
+            );
+        } else if run.end_time / run.output_interval > 1e6 {
+            ck.refuse(
+                "run.output_interval",
+                format!(
+                    "{:.0} records would be written",
+                    run.end_time / run.output_interval
+                ),
+                "a few hundred to a few thousand records resolve a settling curve",
+            );
+        }
+    }
+    let nclasses: usize = class_shares.iter().map(Vec::len).sum();
+    if run.parcels < nclasses.max(1) as u64 {
+        ck.refuse(
+            "run.parcels",
+            format!(
+                "{} parcels cannot represent {} size classes",
+                run.parcels, nclasses
+            ),
+            "use at least one parcel per class; 10⁴–10⁶ parcels give smooth profiles",
+        );
+    }
+    let bins = spec.output.height_bins;
+    if !(2..=100_000).contains(&bins) {
+        ck.refuse(
+            "output.height_bins",
+            format!("height bins must be between 2 and 100000, found {bins}"),
+            "50–200 bins resolve a laboratory column",
+        );
+    }
+    if spec.output.file.trim().is_empty() {
+        ck.refuse(
+            "output.file",
+            "the output file name is empty",
+            "e.g. `file: out/run.h5`",
+        );
+    }
+
+    if !ck.problems.is_empty() {
+        return Err(ck.problems);
+    }
+
+    // Per-class single-particle data.
+    let mut classes = Vec::new();
+    for (si, cls) in class_shares.iter().enumerate() {
+        let sp = &species[si];
+        let key = format!("solids[{si}]");
+        for c in cls {
+            let p = Particle {
+                diameter: c.diameter,
+                density: sp.density,
+            };
+            let Some(drag) = drag_law(
+                &mut ck,
+                &spec.models.drag,
+                sp,
+                &spec.solids[si].size,
+                &key,
+                &p,
+                &fluid,
+            ) else {
+                break;
+            };
+            let terminal = terminal_velocity(&drag, &p, &fluid, g);
+            let exponent = match exponent_spec {
+                ExponentSpec::Auto => ExponentRule::RichardsonZaki1954 {
+                    d_over_column: c.diameter / column.wall_diameter,
+                },
+                ExponentSpec::Smooth => ExponentRule::Rowe1987,
+                ExponentSpec::Fixed(n) => ExponentRule::Fixed(n),
+            }
+            .exponent(terminal.reynolds);
+            classes.push(SizeClass {
+                species: si,
+                lower: c.lower,
+                upper: c.upper,
+                diameter: c.diameter,
+                volume_share: c.volume_share * sp.volume_share,
+                drag,
+                terminal,
+                relaxation_time: relaxation_time(&p, &fluid, &terminal),
+                exponent,
+            });
+        }
+    }
+    if !ck.problems.is_empty() {
+        return Err(ck.problems);
+    }
+    range_warnings(&mut ck, &spec.models.drag, &classes, &column);
+
+    Ok(Setup {
+        title: spec.title.clone().unwrap_or_default(),
+        gravity: g,
+        fluid,
+        fluid_source,
+        temperature,
+        species,
+        classes,
+        column,
+        initial_volume_fraction: phi0,
+        max_packing,
+        hindered,
+        run,
+        output: OutputControl {
+            file: PathBuf::from(spec.output.file.trim()),
+            height_bins: bins as usize,
+        },
+        warnings: ck.warnings,
+    })
+}
+
+/// Check a size description and turn it into a [`Distribution`].
+fn size_distribution(ck: &mut Checker, key: &str, size: &SizeSpec) -> Option<Distribution> {
+    match size {
+        SizeSpec::Single(d) => ck
+            .positive(&format!("{key}.single"), d.si(), "particle size", "m")
+            .then(|| Distribution::Single(d.si())),
+        SizeSpec::LogNormal {
+            median,
+            geometric_sd,
+        } => {
+            let ok = ck.positive(
+                &format!("{key}.log_normal.median"),
+                median.si(),
+                "median size",
+                "m",
+            );
+            if !(geometric_sd.is_finite() && *geometric_sd > 1.0) {
+                ck.refuse(
+                    &format!("{key}.log_normal.geometric_sd"),
+                    format!("the geometric standard deviation must exceed 1, found {geometric_sd}"),
+                    "σg = d84/d50; 1.2 is a narrow sieve cut, 2–3 a broad natural distribution; use `single` for one size",
+                );
+                return None;
+            }
+            ok.then(|| Distribution::LogNormal {
+                median: median.si(),
+                geometric_sd: *geometric_sd,
+            })
+        }
+        SizeSpec::RosinRammler { size_63, spread } => {
+            let ok = ck.positive(
+                &format!("{key}.rosin_rammler.size_63"),
+                size_63.si(),
+                "size",
+                "m",
+            );
+            if !(spread.is_finite() && *spread > 0.0) {
+                ck.refuse(
+                    &format!("{key}.rosin_rammler.spread"),
+                    format!("the spread exponent must be positive, found {spread}"),
+                    "ground ores typically have spreads of 0.7–1.5",
+                );
+                return None;
+            }
+            ok.then(|| Distribution::RosinRammler {
+                size_63: size_63.si(),
+                spread: *spread,
+            })
+        }
+        SizeSpec::CumulativePassing(points) => {
+            let key = format!("{key}.cumulative_passing");
+            if points.len() < 2 {
+                ck.refuse(
+                    &key,
+                    "a size table needs at least two rows",
+                    "give at least the finest and the coarsest size",
+                );
+                return None;
+            }
+            for (i, p) in points.iter().enumerate() {
+                let k = format!("{key}[{i}]");
+                if !ck.positive(&format!("{k}.size"), p.size.si(), "size", "m") {
+                    return None;
+                }
+                if !(0.0..=100.0).contains(&p.percent) {
+                    ck.refuse(
+                        &format!("{k}.percent"),
+                        format!("percent passing must lie in 0–100, found {}", p.percent),
+                        "",
+                    );
+                    return None;
+                }
+            }
+            // Accept rows in either order of size, but the order must be consistent.
+            let mut rows: Vec<(f64, f64)> = points
+                .iter()
+                .map(|p| (p.size.si(), p.percent / 100.0))
+                .collect();
+            let ascending = rows[1].0 > rows[0].0;
+            if !ascending {
+                rows.reverse();
+            }
+            let n = points.len();
+            for j in 1..n {
+                let i = if ascending { j } else { n - 1 - j };
+                let k = format!("{key}[{i}]");
+                if rows[j].0 <= rows[j - 1].0 {
+                    ck.refuse(
+                        &format!("{k}.size"),
+                        "sizes in the table are not monotone (repeated, or out of order)",
+                        "list rows from fine to coarse or from coarse to fine, each size once",
+                    );
+                    return None;
+                }
+                if rows[j].1 < rows[j - 1].1 {
+                    ck.refuse(
+                        &format!("{k}.percent"),
+                        "percent passing decreases with size: the table is not monotone",
+                        "cumulative passing must grow (or stay level) from the finest to the coarsest size",
+                    );
+                    return None;
+                }
+            }
+            if (rows[n - 1].1 - 1.0).abs() > 1e-9 {
+                let i = if ascending { n - 1 } else { 0 };
+                ck.refuse(
+                    &format!("{key}[{i}].percent"),
+                    format!("the coarsest size passes {} %, not 100 %", rows[n - 1].1 * 100.0),
+                    "add the top size (the smallest aperture that passes everything) with `percent: 100`",
+                );
+                return None;
+            }
+            Some(Distribution::Table(rows))
+        }
+    }
+}
+
+/// Choose the drag law for a class; None (with a problem recorded) if the
+/// choice does not fit the species.
+fn drag_law(
+    ck: &mut Checker,
+    choice: &DragSpec,
+    sp: &Species,
+    size: &SizeSpec,
+    key: &str,
+    p: &Particle,
+    fluid: &Fluid,
+) -> Option<DragLaw> {
+    let sphere_only = |ck: &mut Checker, law: &str| {
+        ck.refuse(
+            "models.drag",
+            format!(
+                "`{law}` is a drag law for spheres, but species `{}` is not spherical",
+                sp.name
+            ),
+            "choose `auto`, or `haider_levenspiel` for a known sphericity",
+        );
+        None
+    };
+    let law = match (choice, sp.shape) {
+        (DragSpec::Auto, Shape::Sphere) => DragLaw::CliftGraceWeber,
+        (DragSpec::Auto, Shape::NonSpherical { sphericity }) => {
+            DragLaw::HaiderLevenspiel { sphericity }
+        }
+        (DragSpec::Auto | DragSpec::FergusonChurch, Shape::NaturalGrains) => {
+            DragLaw::FERGUSON_CHURCH_NATURAL_SIEVE
+        }
+        (DragSpec::FergusonChurch, Shape::Sphere) => DragLaw::FERGUSON_CHURCH_SMOOTH_SPHERES,
+        (DragSpec::FergusonChurch, Shape::NonSpherical { .. }) => {
+            ck.refuse(
+                "models.drag",
+                format!("Ferguson–Church covers spheres and natural grains, not species `{}` of given sphericity", sp.name),
+                "use `haider_levenspiel` (or `auto`) for particles of known sphericity",
+            );
+            return None;
+        }
+        (DragSpec::HaiderLevenspiel, Shape::Sphere) => {
+            DragLaw::HaiderLevenspiel { sphericity: 1.0 }
+        }
+        (DragSpec::HaiderLevenspiel, Shape::NonSpherical { sphericity }) => {
+            DragLaw::HaiderLevenspiel { sphericity }
+        }
+        (DragSpec::HaiderLevenspiel, Shape::NaturalGrains) => {
+            ck.refuse(
+                &format!("{key}.shape"),
+                format!("Haider–Levenspiel needs a sphericity, and species `{}` is given as natural grains", sp.name),
+                "write `shape: { non_spherical: { sphericity: 0.8 } }`, or keep natural grains with `ferguson_church`",
+            );
+            return None;
+        }
+        (_, Shape::NonSpherical { .. } | Shape::NaturalGrains) => {
+            return sphere_only(ck, drag_spec_name(choice));
+        }
+        (DragSpec::Stokes, Shape::Sphere) => DragLaw::Stokes,
+        (DragSpec::SchillerNaumann, Shape::Sphere) => DragLaw::SchillerNaumann,
+        (DragSpec::CliftGraceWeber, Shape::Sphere) => DragLaw::CliftGraceWeber,
+        (DragSpec::BrownLawler, Shape::Sphere) => DragLaw::BrownLawler,
+        (DragSpec::TwoTerm(TwoTermSpec::Derived { newton_cd }), Shape::Sphere) => {
+            if !(newton_cd.is_finite() && *newton_cd > 0.0) {
+                ck.refuse(
+                    "models.drag.two_term.derived.newton_cd",
+                    format!("the Newton drag coefficient must be positive, found {newton_cd}"),
+                    "0.44 for smooth spheres",
+                );
+                return None;
+            }
+            DragLaw::two_term_derived(*newton_cd)
+        }
+        (DragSpec::TwoTerm(TwoTermSpec::Coefficients { k1, k2 }), Shape::Sphere) => {
+            if !matches!(size, SizeSpec::Single(_)) {
+                ck.refuse(
+                    "models.drag.two_term.coefficients",
+                    format!("given k1 and k2 hold for one particle size, but species `{}` has a size distribution", sp.name),
+                    "use `two_term: { derived: { newton_cd: 0.44 } }` to scale the coefficients with size",
+                );
+                return None;
+            }
+            let ok1 = ck.positive(
+                "models.drag.two_term.coefficients.k1",
+                k1.si(),
+                "k1",
+                "N·s/m",
+            );
+            let ok2 = k2.si() >= 0.0 && k2.si().is_finite();
+            if !ok2 {
+                ck.refuse(
+                    "models.drag.two_term.coefficients.k2",
+                    format!("k2 must not be negative, found {} N·s²/m²", k2.si()),
+                    "",
+                );
+            }
+            if !(ok1 && ok2) {
+                return None;
+            }
+            DragLaw::two_term_from_coefficients(k1.si(), k2.si(), p, fluid)
+        }
+    };
+    Some(law)
+}
+
+fn drag_spec_name(d: &DragSpec) -> &'static str {
+    match d {
+        DragSpec::Auto => "auto",
+        DragSpec::Stokes => "stokes",
+        DragSpec::SchillerNaumann => "schiller_naumann",
+        DragSpec::CliftGraceWeber => "clift_grace_weber",
+        DragSpec::BrownLawler => "brown_lawler",
+        DragSpec::HaiderLevenspiel => "haider_levenspiel",
+        DragSpec::FergusonChurch => "ferguson_church",
+        DragSpec::TwoTerm(_) => "two_term",
+    }
+}
+
+/// Warnings about laws used outside the range they were fitted on.
+fn range_warnings(ck: &mut Checker, choice: &DragSpec, classes: &[SizeClass], column: &Column) {
+    let re_max = classes
+        .iter()
+        .map(|c| c.terminal.reynolds)
+        .fold(0.0, f64::max);
+    match choice {
+        DragSpec::Stokes if re_max > 0.3 => ck.warn(
+            "models.drag",
+            format!("Stokes drag used up to Re = {re_max:.3}; above Re ≈ 0.3 it overstates the settling velocity by several percent"),
+        ),
+        DragSpec::BrownLawler if re_max > 2e5 => ck.warn(
+            "models.drag",
+            format!("Brown–Lawler used up to Re = {re_max:.3e}, beyond its fitted range (Re < 2×10⁵)"),
+        ),
+        _ => {}
+    }
+    let d_over_d = classes.iter().map(|c| c.diameter).fold(0.0, f64::max) / column.wall_diameter;
+    if d_over_d > 0.04 {
+        ck.warn(
+            "vessel.column.cross_section",
+            format!("the largest particles are {:.1} % of the column width; wall effects exceed the range Richardson–Zaki covered (d/D ≤ 0.04)", d_over_d * 100.0),
+        );
+    }
+}

@@ -1,0 +1,380 @@
+//! Scenario format v1: the YAML a user writes, as serde types.
+//!
+//! These types only describe the text. Physical checks and conversion into
+//! engine inputs happen in [`super::resolve`], where every problem is reported
+//! against the key it came from.
+//!
+//! Enums are externally tagged and read with `singleton_map_recursive`, so a
+//! choice is written `drag: clift_grace_weber` or `size: { log_normal: {...} }`.
+
+use super::units::{
+    Density, Duration, Fraction, Length, LinearDragCoefficient, Loading, QuadraticDragCoefficient,
+    SpecificVolume, Temperature, Velocity, Viscosity,
+};
+use schemars::{JsonSchema, Schema, SchemaGenerator, json_schema};
+use serde::Deserialize;
+use serde::de::{self, Deserializer, Visitor};
+use std::borrow::Cow;
+use std::fmt;
+
+/// A turbid scenario: the suspension, the vessel it settles in, the models and
+/// how long to run.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+#[schemars(title = "turbid scenario, format 1")]
+pub struct ScenarioSpec {
+    /// Version of the scenario format; this build reads format 1.
+    pub format: u32,
+    /// A one-line description shown in summaries and stored in the output.
+    #[serde(default)]
+    pub title: Option<String>,
+    /// Free text: where the data come from, what is invented, etc.
+    #[serde(default)]
+    pub notes: Option<String>,
+    /// The liquid the solids settle in.
+    pub fluid: FluidSpec,
+    /// One or more solid species (minerals, flocs, beads…).
+    pub solids: Vec<SpeciesSpec>,
+    /// The vessel.
+    pub vessel: VesselSpec,
+    /// The state at time zero.
+    pub initial: InitialSpec,
+    /// Physical models; every entry has a default.
+    #[serde(default)]
+    pub models: ModelsSpec,
+    /// Time span, recording and parcel count.
+    pub run: RunSpec,
+    /// Where and how results are written.
+    pub output: OutputSpec,
+}
+
+/// The liquid.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum FluidSpec {
+    /// Liquid water at atmospheric pressure; density from IAPWS-95 and viscosity
+    /// from IAPWS 2008 at the given temperature (0–100 °C).
+    Water {
+        /// Water temperature, e.g. "20 °C".
+        temperature: Temperature,
+    },
+    /// Any Newtonian liquid given by its density and viscosity.
+    Newtonian {
+        /// Liquid density, e.g. "1208 kg/m³".
+        density: Density,
+        /// Dynamic viscosity, e.g. "24.2 mPa·s".
+        viscosity: Viscosity,
+    },
+}
+
+/// One solid species.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct SpeciesSpec {
+    /// Name used in summaries and outputs.
+    pub name: String,
+    /// Density of the solid material (not the bulk density), e.g. "2650 kg/m³".
+    pub density: Density,
+    /// Particle shape; decides the drag law when `models.drag` is `auto`.
+    #[serde(default)]
+    pub shape: ShapeSpec,
+    /// Size distribution, by volume (= by mass), as sieve and laser data give it.
+    pub size: SizeSpec,
+    /// Number of size classes the distribution is split into (1–64).
+    /// Default: 1 for a single size, 8 otherwise.
+    #[serde(default)]
+    pub size_classes: Option<u32>,
+    /// Share of this species in the dry solids, by mass (0–1 or "35 %").
+    /// Required when there is more than one species.
+    #[serde(default)]
+    pub mass_share: Option<Fraction>,
+}
+
+/// Particle shape.
+#[derive(Debug, Clone, Default, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum ShapeSpec {
+    /// Smooth rigid spheres.
+    #[default]
+    Sphere,
+    /// Isometric non-spherical particles of known sphericity (Haider–Levenspiel drag).
+    NonSpherical {
+        /// Sphericity ψ: surface of the equal-volume sphere over the particle surface (0 < ψ ≤ 1).
+        sphericity: f64,
+    },
+    /// Natural sediment grains sized by sieving (Ferguson–Church drag).
+    NaturalGrains,
+}
+
+/// A particle size distribution (by volume).
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum SizeSpec {
+    /// All particles have the same size.
+    Single(Length),
+    /// Log-normal by volume.
+    LogNormal {
+        /// Median size d50 (50 % of the volume is finer).
+        median: Length,
+        /// Geometric standard deviation σg = d84/d50 (> 1).
+        geometric_sd: f64,
+    },
+    /// Rosin–Rammler: share passing F(d) = 1 − exp(−(d/d63)^m).
+    RosinRammler {
+        /// Size at which 63.2 % passes.
+        size_63: Length,
+        /// Spread (uniformity) exponent m (> 0).
+        spread: f64,
+    },
+    /// Measured cumulative percent passing vs size (sieve or laser data), in
+    /// order of size (either direction); the coarsest size must pass 100 %.
+    CumulativePassing(Vec<PassingPoint>),
+}
+
+/// One row of a cumulative size table.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct PassingPoint {
+    /// Sieve aperture or laser size class bound.
+    pub size: Length,
+    /// Percent of the solids volume finer than `size` (0–100).
+    pub percent: f64,
+}
+
+/// The vessel. (Format 1 has the batch column; continuous vessels will be
+/// further choices here.)
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum VesselSpec {
+    /// A closed batch settling column filled to `height`.
+    Column {
+        /// Initial height of the suspension (fill height), e.g. "1.0 m".
+        height: Length,
+        /// Horizontal cross-section of the column.
+        cross_section: CrossSectionSpec,
+    },
+}
+
+/// A horizontal cross-section.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum CrossSectionSpec {
+    /// A round column.
+    Round {
+        /// Inner diameter.
+        diameter: Length,
+    },
+    /// A rectangular column or tank.
+    Rectangular {
+        /// Inner width.
+        width: Length,
+        /// Inner depth (front to back).
+        depth: Length,
+    },
+}
+
+/// The state at time zero.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct InitialSpec {
+    /// Uniform solids loading of the whole suspension: "8 vol%", "25 wt%",
+    /// "120 g/L", or a plain number = volume fraction.
+    pub loading: Loading,
+}
+
+/// Physical models.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct ModelsSpec {
+    /// Single-particle drag law.
+    #[serde(default)]
+    pub drag: DragSpec,
+    /// Hindered-settling law.
+    #[serde(default)]
+    pub hindered: HinderedSpec,
+    /// Volume fraction at which particles come to rest in a bed (0 < φmax ≤ 0.9).
+    #[serde(default = "default_max_packing")]
+    pub max_packing: f64,
+}
+
+fn default_max_packing() -> f64 {
+    // Random close packing of equal spheres, 0.64 ± 0.02 (Berryman 1983), less
+    // a margin for the looser beds of settled sediments (common practice).
+    0.6
+}
+
+impl Default for ModelsSpec {
+    fn default() -> Self {
+        ModelsSpec {
+            drag: DragSpec::default(),
+            hindered: HinderedSpec::default(),
+            max_packing: default_max_packing(),
+        }
+    }
+}
+
+/// Drag law choice.
+#[derive(Debug, Clone, Default, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum DragSpec {
+    /// By shape: spheres → Clift–Grace–Weber; non-spherical → Haider–Levenspiel;
+    /// natural grains → Ferguson–Church.
+    #[default]
+    Auto,
+    /// C_D = 24/Re (creeping flow only).
+    Stokes,
+    /// Schiller–Naumann (1933), 0.44 above Re = 1000.
+    SchillerNaumann,
+    /// Clift, Grace & Weber (1978) standard drag curve.
+    CliftGraceWeber,
+    /// Brown & Lawler (2003), Re < 2×10⁵.
+    BrownLawler,
+    /// Haider & Levenspiel (1989), uses the species sphericity.
+    HaiderLevenspiel,
+    /// Ferguson & Church (2004).
+    FergusonChurch,
+    /// Two-term drag F = k1·v + k2·v² (viscous + pressure term).
+    TwoTerm(TwoTermSpec),
+}
+
+/// Coefficients of the two-term law: either derived from fluid and particle
+/// (k1 = 3πμd, k2 = (π/8)ρf d² C∞), or given directly for a single-size species.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum TwoTermSpec {
+    /// Derive k1 and k2 from fluid and particle with the Newton-regime drag coefficient C∞.
+    Derived {
+        /// Newton-regime drag coefficient C∞ (0.44 for spheres).
+        #[serde(default = "default_newton_cd")]
+        newton_cd: f64,
+    },
+    /// Given coefficients (only for species with a single size).
+    Coefficients {
+        /// Viscous coefficient k1, e.g. "2.8e-6 N·s/m".
+        k1: LinearDragCoefficient,
+        /// Pressure coefficient k2, e.g. "1.7e-5 N·s²/m²".
+        k2: QuadraticDragCoefficient,
+    },
+}
+
+fn default_newton_cd() -> f64 {
+    // Newton-regime plateau for spheres, 10³ < Re < 2×10⁵ (common practice).
+    0.44
+}
+
+/// Hindered-settling law.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum HinderedSpec {
+    /// Richardson–Zaki: v = v_t (1 − φ)^n.
+    RichardsonZaki {
+        /// n: `auto` (Richardson–Zaki 1954 from the particle Reynolds number and
+        /// d/D), `smooth` (Rowe 1987 fit) or a number.
+        #[serde(default)]
+        exponent: ExponentSpec,
+    },
+    /// Michaels–Bolger type: v = v_t (1 − φ/φmax)^n, vanishing at the packing limit.
+    MichaelsBolger {
+        /// n, as for Richardson–Zaki.
+        #[serde(default)]
+        exponent: ExponentSpec,
+    },
+    /// Vesilind: v = v0 exp(−k C), C the solids mass concentration.
+    Vesilind {
+        /// Settling velocity at zero concentration, e.g. "6 m/h".
+        v0: Velocity,
+        /// Concentration coefficient k, e.g. "0.45 L/g" (= m³/kg).
+        k: SpecificVolume,
+    },
+}
+
+impl Default for HinderedSpec {
+    fn default() -> Self {
+        HinderedSpec::RichardsonZaki {
+            exponent: ExponentSpec::Auto,
+        }
+    }
+}
+
+/// How the hindered-settling exponent n is chosen.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub enum ExponentSpec {
+    /// Richardson & Zaki (1954) piecewise law in Re with the d/D wall term.
+    #[default]
+    Auto,
+    /// Rowe (1987) smooth fit in Re.
+    Smooth,
+    /// A fixed value.
+    Fixed(f64),
+}
+
+impl<'de> Deserialize<'de> for ExponentSpec {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = ExponentSpec;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("`auto`, `smooth` or a number such as 4.65")
+            }
+            fn visit_str<E: de::Error>(self, s: &str) -> Result<ExponentSpec, E> {
+                match s.trim() {
+                    "auto" => Ok(ExponentSpec::Auto),
+                    "smooth" => Ok(ExponentSpec::Smooth),
+                    other => Err(E::custom(format!(
+                        "unknown exponent `{other}`, expected `auto`, `smooth` or a number such as 4.65"
+                    ))),
+                }
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<ExponentSpec, E> {
+                Ok(ExponentSpec::Fixed(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<ExponentSpec, E> {
+                Ok(ExponentSpec::Fixed(v as f64))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<ExponentSpec, E> {
+                Ok(ExponentSpec::Fixed(v as f64))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+impl JsonSchema for ExponentSpec {
+    fn schema_name() -> Cow<'static, str> {
+        "Exponent".into()
+    }
+    fn json_schema(_: &mut SchemaGenerator) -> Schema {
+        json_schema!({
+            "description": "`auto` (Richardson–Zaki 1954 from Re and d/D), `smooth` (Rowe 1987) or a fixed number",
+            "oneOf": [
+                { "type": "string", "enum": ["auto", "smooth"] },
+                { "type": "number" }
+            ]
+        })
+    }
+}
+
+/// Time span, recording and parcels.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RunSpec {
+    /// Simulated time, e.g. "2 h".
+    pub end_time: Duration,
+    /// Interval between recorded profiles, e.g. "30 s".
+    pub output_interval: Duration,
+    /// Number of computational parcels (each stands for many particles).
+    pub parcels: u64,
+    /// Seed of the random streams; the same seed gives the same results.
+    #[serde(default)]
+    pub seed: u64,
+}
+
+/// Output file and resolution.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct OutputSpec {
+    /// Path of the HDF5 (netCDF-4) result file, relative to the scenario file.
+    pub file: String,
+    /// Number of height slabs for concentration profiles (2–100000).
+    pub height_bins: u32,
+}

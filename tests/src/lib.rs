@@ -1,0 +1,124 @@
+//! Shared helpers for the validation tests: reading the committed reference
+//! tables in `tests/data/` and comparing numbers with a stated tolerance.
+//!
+//! Reference tables are CSV files whose leading `#` lines state their
+//! provenance (generating script, library versions, method). The first
+//! non-comment line holds the column names, each with its unit in brackets.
+
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+/// Absolute path of a file in `tests/data/`.
+pub fn data_path(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("data")
+        .join(name)
+}
+
+/// A numeric reference table: named columns of f64 (empty cells read as NaN).
+#[derive(Debug, Clone)]
+pub struct Table {
+    pub provenance: Vec<String>,
+    pub columns: Vec<String>,
+    pub rows: Vec<Vec<f64>>,
+    index: HashMap<String, usize>,
+}
+
+impl Table {
+    /// Read `tests/data/<name>`; panics with a clear message if the file is
+    /// missing or malformed (a test fixture problem, not a user input).
+    pub fn read(name: &str) -> Table {
+        let path = data_path(name);
+        let text = std::fs::read_to_string(&path)
+            .unwrap_or_else(|e| panic!("cannot read reference table {}: {e}", path.display()));
+        let mut provenance = Vec::new();
+        let mut body = String::new();
+        for line in text.lines() {
+            if let Some(c) = line.strip_prefix('#') {
+                provenance.push(c.trim().to_string());
+            } else if !line.trim().is_empty() {
+                body.push_str(line);
+                body.push('\n');
+            }
+        }
+        assert!(
+            !provenance.is_empty(),
+            "{}: reference tables must state their provenance in '#' lines",
+            path.display()
+        );
+        let mut rdr = csv::ReaderBuilder::new().from_reader(body.as_bytes());
+        let columns: Vec<String> = rdr
+            .headers()
+            .unwrap_or_else(|e| panic!("{}: bad header: {e}", path.display()))
+            .iter()
+            .map(|s| s.trim().to_string())
+            .collect();
+        let mut rows = Vec::new();
+        for (i, rec) in rdr.records().enumerate() {
+            let rec = rec.unwrap_or_else(|e| panic!("{}: row {}: {e}", path.display(), i + 1));
+            let row = rec
+                .iter()
+                .map(|s| {
+                    let s = s.trim();
+                    if s.is_empty() {
+                        f64::NAN
+                    } else {
+                        s.parse::<f64>().unwrap_or_else(|e| {
+                            panic!(
+                                "{}: row {}: '{s}' is not a number: {e}",
+                                path.display(),
+                                i + 1
+                            )
+                        })
+                    }
+                })
+                .collect::<Vec<f64>>();
+            assert_eq!(
+                row.len(),
+                columns.len(),
+                "{}: row {} width",
+                path.display(),
+                i + 1
+            );
+            rows.push(row);
+        }
+        assert!(!rows.is_empty(), "{}: no data rows", path.display());
+        let index = columns
+            .iter()
+            .enumerate()
+            .map(|(i, c)| (c.clone(), i))
+            .collect();
+        Table {
+            provenance,
+            columns,
+            rows,
+            index,
+        }
+    }
+
+    /// Column by its exact header name (including the unit in brackets).
+    pub fn col(&self, name: &str) -> Vec<f64> {
+        let i = *self
+            .index
+            .get(name)
+            .unwrap_or_else(|| panic!("no column '{name}'; have {:?}", self.columns));
+        self.rows.iter().map(|r| r[i]).collect()
+    }
+}
+
+/// Relative difference |a − b| / |b|.
+pub fn rel_diff(a: f64, b: f64) -> f64 {
+    ((a - b) / b).abs()
+}
+
+/// Assert `actual` is within relative tolerance `tol` of `expected`; `what`
+/// names the quantity and its source in the failure message.
+#[track_caller]
+pub fn assert_rel(actual: f64, expected: f64, tol: f64, what: &str) {
+    let r = rel_diff(actual, expected);
+    assert!(
+        r <= tol,
+        "{what}: got {actual:.10e}, expected {expected:.10e} (rel. diff {r:.3e} > tol {tol:.1e})"
+    );
+}
