@@ -5,6 +5,7 @@
 
 pub mod drag;
 pub mod hindered;
+pub mod polydisperse;
 pub mod terminal;
 pub mod water;
 
