@@ -1,8 +1,10 @@
 //! `turbid`: the command-line front end.
 //!
 //! Exit codes: 0 success, 2 invalid input (the message says where and why),
-//! 1 internal failure (a bug: please report it).
+//! 1 internal failure (a bug: please report it, or an output that could not be
+//! written), 3 interrupted by SIGINT/SIGTERM (partial results were written).
 
+mod run;
 mod summary;
 
 use clap::{Parser, Subcommand};
@@ -28,12 +30,31 @@ enum Command {
         /// Scenario file (YAML).
         file: PathBuf,
     },
+    /// Run a scenario with the particle engine and write profiles (HDF5) and the settling curve (CSV).
+    Run {
+        /// Scenario file (YAML).
+        file: PathBuf,
+        /// Result file (HDF5, netCDF-4 layout); default: `output.file` of the scenario.
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// Threads for the hot loops (default: all cores).
+        #[arg(long)]
+        threads: Option<usize>,
+        /// How to show progress.
+        #[arg(long, value_enum, default_value = "auto")]
+        progress: run::ProgressMode,
+        /// Seconds between plain progress lines when not on a terminal.
+        #[arg(long, default_value_t = 10.0)]
+        log_every: f64,
+    },
     /// Print the JSON Schema of the scenario format (for editors and validators).
     Schema,
 }
 
 const EXIT_INVALID_INPUT: u8 = 2;
 const EXIT_INTERNAL: u8 = 1;
+/// Interrupted by SIGINT or SIGTERM; the partial results were written.
+const EXIT_INTERRUPTED: u8 = 3;
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -70,6 +91,58 @@ fn run(cli: Cli) -> ExitCode {
                 ExitCode::from(EXIT_INVALID_INPUT)
             }
         },
+        Command::Run {
+            file,
+            output,
+            threads,
+            progress,
+            log_every,
+        } => {
+            let text = match std::fs::read_to_string(&file) {
+                Ok(t) => t,
+                Err(_) => {
+                    // Let `load` produce the located message for a missing file.
+                    return match scenario::load(&file) {
+                        Err(e) => {
+                            eprintln!("{e}");
+                            ExitCode::from(EXIT_INVALID_INPUT)
+                        }
+                        Ok(_) => ExitCode::from(EXIT_INTERNAL),
+                    };
+                }
+            };
+            let setup = match scenario::parse_str(&text, &file) {
+                Ok(s) => s,
+                Err(e) => {
+                    eprintln!("{e}");
+                    return ExitCode::from(EXIT_INVALID_INPUT);
+                }
+            };
+            if !(log_every.is_finite() && log_every > 0.0) {
+                eprintln!("error: --log-every must be a positive number of seconds");
+                return ExitCode::from(EXIT_INVALID_INPUT);
+            }
+            let threads = threads
+                .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+            if threads == 0 {
+                eprintln!("error: --threads must be at least 1");
+                return ExitCode::from(EXIT_INVALID_INPUT);
+            }
+            let opts = run::RunOptions {
+                output,
+                threads,
+                progress,
+                log_every: std::time::Duration::from_secs_f64(log_every),
+            };
+            match run::run(&file, &text, &setup, &opts) {
+                Ok(run::Outcome::Complete) => ExitCode::SUCCESS,
+                Ok(run::Outcome::Interrupted) => ExitCode::from(EXIT_INTERRUPTED),
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    ExitCode::from(EXIT_INTERNAL)
+                }
+            }
+        }
         Command::Schema => {
             let schema = scenario::json_schema();
             match serde_json::to_string_pretty(&schema) {

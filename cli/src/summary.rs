@@ -3,6 +3,8 @@
 
 use std::fmt::Write;
 use std::path::Path;
+use turbid_engine::particles::geometry::Section;
+use turbid_engine::particles::kernel::window_size;
 use turbid_engine::scenario::Setup;
 use turbid_engine::scenario::resolve::{HinderedChoice, Shape};
 
@@ -109,14 +111,31 @@ pub fn render(file: &Path, s: &Setup) -> String {
         );
     }
     let _ = writeln!(o);
-    let dz = s.column.height / s.output.height_bins as f64;
+    // What the particle engine starts with: the concentration window and the
+    // Courant limit on it for the fastest class.
+    let section = Section::of_column(&s.column);
+    let (a, b) = window_size(
+        &section,
+        s.column.height,
+        s.run.parcels,
+        s.numerics.neighbours,
+        s.numerics.kernel_aspect,
+    );
+    let vmax = s
+        .classes
+        .iter()
+        .map(|c| c.terminal.velocity)
+        .fold(0.0, f64::max);
     let _ = writeln!(
         o,
-        "Time step suggested {} s (Courant number 0.5 on one {:.2} mm height bin, fastest class)",
-        sig(s.suggested_time_step()),
-        dz * 1e3
+        "Time step {} s to start (Courant {} on a {:.2} mm window, {:.1} mm across, fastest class)",
+        sig((s.numerics.courant * b / vmax).min(s.run.output_interval)),
+        s.numerics.courant,
+        b * 1e3,
+        2.0 * a * 1e3
     );
-    let records = (s.run.end_time / s.run.output_interval).floor() as u64 + 1;
+    // Records at t = 0, every interval, and at the end time.
+    let records = (s.run.end_time / s.run.output_interval - 1e-9).ceil() as u64 + 1;
     let _ = writeln!(
         o,
         "Run       end time {:.1} s, a record every {:.2} s ({records} records), {} parcels, seed {}",

@@ -8,6 +8,7 @@
 //! * [`output`] — result files: NetCDF-4 (CF) and the settling-curve CSV.
 
 pub mod output;
+pub mod particles;
 pub mod physics;
 pub mod record;
 pub mod scenario;

@@ -4,6 +4,7 @@
 use super::distribution::{ClassShare, Distribution};
 use super::error::Problem;
 use super::locate::Locations;
+pub use super::spec::SearchSpec;
 use super::spec::*;
 use super::units::Loading;
 use crate::physics::drag::DragLaw;
@@ -22,6 +23,8 @@ pub const MAX_DIAMETER: f64 = 0.1;
 pub const MAX_PACKING_LIMIT: f64 = 0.9;
 /// Most size classes per species.
 pub const MAX_CLASSES: u32 = 64;
+/// Most size classes over all species (the engines keep per-class sums on the stack).
+pub const MAX_TOTAL_CLASSES: usize = 128;
 
 /// How the particle shape enters the drag law.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -72,6 +75,15 @@ pub struct Column {
     pub wall_diameter: f64,
     /// Human-readable cross-section.
     pub description: String,
+    /// Shape of the cross-section, m.
+    pub shape: ColumnShape,
+}
+
+/// Cross-section shape of a column, m.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ColumnShape {
+    Round { diameter: f64 },
+    Rectangular { width: f64, depth: f64 },
 }
 
 /// Which hindered-settling law applies (the exponent is per class).
@@ -93,6 +105,17 @@ pub struct RunControl {
     pub output_interval: f64,
     pub parcels: u64,
     pub seed: u64,
+}
+
+/// Numerical settings in SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Numerics {
+    pub neighbours: u32,
+    pub kernel_aspect: f64,
+    pub courant: f64,
+    pub search: SearchSpec,
+    /// Dispersion diffusivity, m²/s (0 for none).
+    pub dispersion: f64,
 }
 
 /// Output settings.
@@ -120,6 +143,7 @@ pub struct Setup {
     pub max_packing: f64,
     pub hindered: HinderedChoice,
     pub run: RunControl,
+    pub numerics: Numerics,
     pub output: OutputControl,
     /// Things the user should know that do not stop the run.
     pub warnings: Vec<Problem>,
@@ -154,18 +178,6 @@ impl Setup {
             .iter()
             .map(|s| s.volume_share * s.density)
             .sum()
-    }
-
-    /// Time step the particle engine would start from: a Courant number of
-    /// 0.5 on one height bin for the fastest class.
-    pub fn suggested_time_step(&self) -> f64 {
-        let vmax = self
-            .classes
-            .iter()
-            .map(|c| c.terminal.velocity)
-            .fold(0.0, f64::max);
-        let dz = self.column.height / self.output.height_bins as f64;
-        (0.5 * dz / vmax).min(self.run.output_interval)
     }
 }
 
@@ -310,7 +322,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
             cross_section,
         } => {
             ck.positive("vessel.column.height", height.si(), "column height", "m");
-            let (area, wall_diameter, description) = match cross_section {
+            let (area, wall_diameter, description, shape) = match cross_section {
                 CrossSectionSpec::Round { diameter } => {
                     let d = diameter.si();
                     ck.positive(
@@ -323,6 +335,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
                         std::f64::consts::PI / 4.0 * d * d,
                         d,
                         format!("round, {:.1} mm diameter", d * 1e3),
+                        ColumnShape::Round { diameter: d },
                     )
                 }
                 CrossSectionSpec::Rectangular { width, depth } => {
@@ -343,6 +356,10 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
                         w * dp,
                         2.0 * w * dp / (w + dp),
                         format!("rectangular, {:.1} × {:.1} mm", w * 1e3, dp * 1e3),
+                        ColumnShape::Rectangular {
+                            width: w,
+                            depth: dp,
+                        },
                     )
                 }
             };
@@ -351,6 +368,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
                 area,
                 wall_diameter,
                 description,
+                shape,
             }
         }
     };
@@ -668,6 +686,59 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
             "50–200 bins resolve a laboratory column",
         );
     }
+    let nm = &spec.numerics;
+    if !(8..=1000).contains(&nm.neighbours) {
+        ck.refuse(
+            "numerics.neighbours",
+            format!(
+                "the kernel neighbour target must be between 8 and 1000, found {}",
+                nm.neighbours
+            ),
+            "32–128 neighbours balance noise against resolution",
+        );
+    }
+    if !(nm.kernel_aspect.is_finite() && (1.0..=20.0).contains(&nm.kernel_aspect)) {
+        ck.refuse(
+            "numerics.kernel_aspect",
+            format!(
+                "the kernel aspect ratio must be between 1 and 20, found {}",
+                nm.kernel_aspect
+            ),
+            "4 suits columns whose concentration varies mainly with height",
+        );
+    }
+    if !(nm.courant.is_finite() && nm.courant > 0.0 && nm.courant <= 1.0) {
+        ck.refuse(
+            "numerics.courant",
+            format!(
+                "the Courant number must lie in (0, 1], found {}",
+                nm.courant
+            ),
+            "0.5 is a safe choice",
+        );
+    }
+    let dispersion = nm.dispersion.map_or(0.0, |d| d.si());
+    if !(dispersion.is_finite() && dispersion >= 0.0) {
+        ck.refuse(
+            "numerics.dispersion",
+            format!("the dispersion coefficient must not be negative, found {dispersion} m²/s"),
+            "leave it out for no dispersion",
+        );
+    }
+    let numerics = Numerics {
+        neighbours: nm.neighbours,
+        kernel_aspect: nm.kernel_aspect,
+        courant: nm.courant,
+        search: nm.neighbour_search,
+        dispersion,
+    };
+    if nclasses > MAX_TOTAL_CLASSES {
+        ck.refuse(
+            "solids",
+            format!("{nclasses} size classes in all; at most {MAX_TOTAL_CLASSES} are supported"),
+            "lower `size_classes`",
+        );
+    }
     if spec.output.file.trim().is_empty() {
         ck.refuse(
             "output.file",
@@ -741,6 +812,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         max_packing,
         hindered,
         run,
+        numerics,
         output: OutputControl {
             file: PathBuf::from(spec.output.file.trim()),
             height_bins: bins as usize,

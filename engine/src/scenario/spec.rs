@@ -8,8 +8,8 @@
 //! choice is written `drag: clift_grace_weber` or `size: { log_normal: {...} }`.
 
 use super::units::{
-    Density, Duration, Fraction, Length, LinearDragCoefficient, Loading, QuadraticDragCoefficient,
-    SpecificVolume, Temperature, Velocity, Viscosity,
+    Density, Diffusivity, Duration, Fraction, Length, LinearDragCoefficient, Loading,
+    QuadraticDragCoefficient, SpecificVolume, Temperature, Velocity, Viscosity,
 };
 use schemars::{JsonSchema, Schema, SchemaGenerator, json_schema};
 use serde::Deserialize;
@@ -44,6 +44,9 @@ pub struct ScenarioSpec {
     pub models: ModelsSpec,
     /// Time span, recording and parcel count.
     pub run: RunSpec,
+    /// Numerical settings; every entry has a default.
+    #[serde(default)]
+    pub numerics: NumericsSpec,
     /// Where and how results are written.
     pub output: OutputSpec,
 }
@@ -377,4 +380,68 @@ pub struct OutputSpec {
     pub file: String,
     /// Number of height slabs for concentration profiles (2–100000).
     pub height_bins: u32,
+}
+
+/// Numerical settings of the engines.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct NumericsSpec {
+    /// Target number of parcels inside the concentration window (8–1000,
+    /// default 256). The window shrinks as parcels are added, so spatial
+    /// resolution improves with parcels; the statistical bias of the estimate
+    /// (settling speeds a few percent high at dense loadings) falls as 1/N
+    /// with this number, not with the parcel count.
+    #[serde(default = "default_neighbours")]
+    pub neighbours: u32,
+    /// Horizontal kernel radius over its vertical half-height (1–20): wider
+    /// across than along gravity, where concentrations change fastest.
+    #[serde(default = "default_kernel_aspect")]
+    pub kernel_aspect: f64,
+    /// Courant number: the fastest parcel moves at most this fraction of the
+    /// kernel half-height per step (0 < C ≤ 1).
+    #[serde(default = "default_courant")]
+    pub courant: f64,
+    /// Neighbour search behind the concentration estimate.
+    #[serde(default)]
+    pub neighbour_search: SearchSpec,
+    /// Hydrodynamic dispersion: a random walk with this diffusivity (default none).
+    #[serde(default)]
+    pub dispersion: Option<Diffusivity>,
+}
+
+fn default_neighbours() -> u32 {
+    // Two statistical biases fall as 1/N: the look-ahead estimate reads low by
+    // about 1/N (the correlation hole in front of each parcel), and noise in φ
+    // raises the mean of the convex (1 − φ)^n. At φ0 = 0.3 they sum to about
+    // +3 % in settling speed at N = 128 and under 1 % at 256 (measured).
+    256
+}
+fn default_kernel_aspect() -> f64 {
+    4.0
+}
+fn default_courant() -> f64 {
+    0.5
+}
+
+impl Default for NumericsSpec {
+    fn default() -> Self {
+        NumericsSpec {
+            neighbours: default_neighbours(),
+            kernel_aspect: default_kernel_aspect(),
+            courant: default_courant(),
+            neighbour_search: SearchSpec::default(),
+            dispersion: None,
+        }
+    }
+}
+
+/// How parcels near a point are found.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum SearchSpec {
+    /// Uniform cells of one kernel size, parcels sorted by cell (fastest here).
+    #[default]
+    CellList,
+    /// A k-d tree rebuilt every step.
+    KdTree,
 }

@@ -39,6 +39,7 @@ pub enum Kind {
     SpecificVolume,
     LinearDragCoefficient,
     QuadraticDragCoefficient,
+    Diffusivity,
 }
 
 const HOUR: f64 = 3600.0;
@@ -144,6 +145,15 @@ impl Kind {
                 }
             }
             Kind::SpecificVolume => const { &[u(&["m³/kg", "m3/kg", "L/g", "l/g"], 1.0)] },
+            Kind::Diffusivity => {
+                const {
+                    &[
+                        u(&["m²/s", "m2/s"], 1.0),
+                        u(&["cm²/s", "cm2/s"], 1e-4),
+                        u(&["mm²/s", "mm2/s"], 1e-6),
+                    ]
+                }
+            }
             Kind::LinearDragCoefficient => {
                 const { &[u(&["N·s/m", "N s/m", "N*s/m", "kg/s"], 1.0)] }
             }
@@ -173,6 +183,7 @@ impl Kind {
             Kind::SpecificVolume => "a specific volume",
             Kind::LinearDragCoefficient => "a linear drag coefficient",
             Kind::QuadraticDragCoefficient => "a quadratic drag coefficient",
+            Kind::Diffusivity => "a diffusivity",
         }
     }
 
@@ -209,6 +220,7 @@ impl Kind {
             Kind::SpecificVolume => "\"0.45 L/g\"",
             Kind::LinearDragCoefficient => "\"2.8e-6 N·s/m\"",
             Kind::QuadraticDragCoefficient => "\"1.7e-5 N·s²/m²\"",
+            Kind::Diffusivity => "\"1.0e-7 m²/s\"",
         }
     }
 
@@ -430,6 +442,11 @@ quantity!(
     /// A specific volume in m³/kg (accepts m³/kg, L/g).
     SpecificVolume,
     Kind::SpecificVolume
+);
+quantity!(
+    /// A diffusivity in m²/s (accepts m²/s, cm²/s, mm²/s).
+    Diffusivity,
+    Kind::Diffusivity
 );
 quantity!(
     /// Linear drag coefficient k1 in N·s/m.

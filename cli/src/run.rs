@@ -1,0 +1,189 @@
+//! `turbid run`: run a scenario with the particle engine, show progress, and
+//! write the results atomically (partial results on interrupt).
+
+use indicatif::{HumanDuration, ProgressBar, ProgressDrawTarget, ProgressStyle};
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+use turbid_engine::output;
+use turbid_engine::particles::{Monitor, ParticleEngine};
+use turbid_engine::record::{RunRecord, RunStatus};
+use turbid_engine::scenario::Setup;
+
+/// How progress is shown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ProgressMode {
+    /// A bar on a terminal, plain log lines otherwise.
+    Auto,
+    Bar,
+    Log,
+    None,
+}
+
+/// Progress as a bar (terminal) or as a plain line every `every` (batch logs).
+struct Progress {
+    bar: Option<ProgressBar>,
+    log_every: Option<Duration>,
+    started: Instant,
+    last_log: Instant,
+    parcel_steps: u64,
+}
+
+const TICKS_PER_SECOND: f64 = 1000.0;
+
+impl Progress {
+    fn new(mode: ProgressMode, end: f64, log_every: Duration) -> Progress {
+        let terminal =
+            std::io::stderr().is_terminal() && std::env::var("TERM").map_or(true, |t| t != "dumb");
+        let bar = match (mode, terminal) {
+            (ProgressMode::Bar, _) | (ProgressMode::Auto, true) => {
+                let pb = ProgressBar::with_draw_target(
+                    Some((end * TICKS_PER_SECOND) as u64),
+                    ProgressDrawTarget::stderr_with_hz(4),
+                );
+                let style = ProgressStyle::with_template(
+                    "{spinner} [{elapsed_precise}] {wide_bar} {msg} ETA {eta}",
+                )
+                .map(|s| s.progress_chars("=> "))
+                .unwrap_or_else(|_| ProgressStyle::default_bar());
+                pb.set_style(style);
+                Some(pb)
+            }
+            _ => None,
+        };
+        let log_every = match (mode, terminal) {
+            (ProgressMode::Log, _) | (ProgressMode::Auto, false) => Some(log_every),
+            _ => None,
+        };
+        let now = Instant::now();
+        Progress {
+            bar,
+            log_every,
+            started: now,
+            last_log: now,
+            parcel_steps: 0,
+        }
+    }
+
+    fn rate(&self) -> f64 {
+        self.parcel_steps as f64 / self.started.elapsed().as_secs_f64().max(1e-9)
+    }
+
+    fn finish(&self) {
+        if let Some(pb) = &self.bar {
+            pb.finish_and_clear();
+        }
+    }
+}
+
+impl Monitor for Progress {
+    fn step(&mut self, time: f64, end: f64, parcel_steps: u64) {
+        self.parcel_steps = parcel_steps;
+        if let Some(pb) = &self.bar {
+            pb.set_position((time * TICKS_PER_SECOND) as u64);
+            pb.set_message(format!(
+                "t = {time:.1} / {end:.1} s, {:.3e} parcel-steps/s",
+                self.rate()
+            ));
+        }
+        if let Some(every) = self.log_every
+            && self.last_log.elapsed() >= every
+        {
+            self.last_log = Instant::now();
+            let elapsed = self.started.elapsed();
+            let frac = (time / end).clamp(1e-9, 1.0);
+            let eta = elapsed.mul_f64((1.0 - frac) / frac);
+            eprintln!(
+                "progress: t = {time:.1} / {end:.1} s ({:.1} %), {:.3e} parcel-steps/s, elapsed {}, eta {}",
+                100.0 * frac,
+                self.rate(),
+                HumanDuration(elapsed),
+                HumanDuration(eta)
+            );
+        }
+    }
+}
+
+/// Options of one run.
+pub struct RunOptions {
+    pub output: Option<PathBuf>,
+    pub threads: usize,
+    pub progress: ProgressMode,
+    pub log_every: Duration,
+}
+
+/// What happened, for the exit code.
+pub enum Outcome {
+    Complete,
+    Interrupted,
+}
+
+pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, String> {
+    let out = opts
+        .output
+        .clone()
+        .unwrap_or_else(|| setup.output.file.clone());
+    let csv = output::settling_csv_path(&out);
+    let stop = Arc::new(AtomicBool::new(false));
+    {
+        let stop = stop.clone();
+        // Ignore a failure to install (e.g. already installed in this process):
+        // the run still works, it just cannot save partial results on a signal.
+        let _ = ctrlc::set_handler(move || stop.store(true, Ordering::SeqCst));
+    }
+    let wall = Instant::now();
+    let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(|e| e.to_string())?;
+    let (a, b) = engine.kernel_size();
+    eprintln!(
+        "turbid: {} — {} parcels, {} threads, concentration window {:.2} mm across × {:.2} mm ahead",
+        file.display(),
+        setup.run.parcels,
+        opts.threads,
+        2.0 * a * 1e3,
+        b * 1e3
+    );
+    let mut progress = Progress::new(opts.progress, setup.run.end_time, opts.log_every);
+    let record = engine.run(&mut progress, Some(&stop));
+    progress.finish();
+    output::write_netcdf(&record, &out).map_err(|e| e.to_string())?;
+    output::write_settling_csv(&record, &csv).map_err(|e| e.to_string())?;
+    summary(&record, &out, &csv, wall.elapsed(), progress.rate());
+    Ok(match record.status {
+        RunStatus::Complete => Outcome::Complete,
+        RunStatus::Partial => Outcome::Interrupted,
+    })
+}
+
+fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64) {
+    let (first, last) = match (record.frames.first(), record.frames.last()) {
+        (Some(f), Some(l)) => (f, l),
+        _ => return,
+    };
+    let balance = record
+        .frames
+        .iter()
+        .map(|f| ((f.solids_volume - first.solids_volume) / first.solids_volume).abs())
+        .fold(0.0, f64::max);
+    let status = match record.status {
+        RunStatus::Complete => "complete",
+        RunStatus::Partial => "PARTIAL (interrupted; the frames recorded so far are saved)",
+    };
+    println!("run {status} at t = {:.1} s", last.time);
+    println!("  interface height   {:.4} m", last.interface_height);
+    println!("  bed height         {:.4} m", last.bed_height);
+    println!(
+        "  solids balance     {balance:.2e} (largest relative change of the solids volume over all records)"
+    );
+    println!(
+        "  wall time          {:.1} s ({rate:.3e} parcel-steps/s)",
+        wall.as_secs_f64()
+    );
+    println!(
+        "  results            {} ({} records)",
+        out.display(),
+        record.frames.len()
+    );
+    println!("  settling curve     {}", csv.display());
+}
