@@ -137,7 +137,11 @@ fn run(cli: Cli) -> ExitCode {
             match run::run(&file, &text, &setup, &opts) {
                 Ok(run::Outcome::Complete) => ExitCode::SUCCESS,
                 Ok(run::Outcome::Interrupted) => ExitCode::from(EXIT_INTERRUPTED),
-                Err(e) => {
+                Err(run::RunError::Unsupported(e)) => {
+                    eprintln!("error: {}: {e}", file.display());
+                    ExitCode::from(EXIT_INVALID_INPUT)
+                }
+                Err(run::RunError::Failed(e)) => {
                     eprintln!("error: {e}");
                     ExitCode::from(EXIT_INTERNAL)
                 }

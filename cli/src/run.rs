@@ -8,9 +8,10 @@ use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
 use turbid_engine::output;
-use turbid_engine::particles::{Monitor, ParticleEngine};
+use turbid_engine::particles::{EngineError, Monitor, ParticleEngine};
 use turbid_engine::record::{RunRecord, RunStatus};
 use turbid_engine::scenario::Setup;
+use turbid_engine::scenario::resolve::EngineSpec;
 
 /// How progress is shown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -120,7 +121,22 @@ pub enum Outcome {
     Interrupted,
 }
 
-pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, String> {
+/// Why a run did not happen or did not finish.
+pub enum RunError {
+    /// The scenario asks for something the engine cannot do (exit 2).
+    Unsupported(String),
+    /// Something failed (exit 1).
+    Failed(String),
+}
+
+pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, RunError> {
+    if setup.engine == EngineSpec::Continuum {
+        return Err(RunError::Unsupported(
+            "the continuum engine (`run: { engine: continuum }`) is not available in this build yet; \
+             use `engine: particles`"
+                .to_string(),
+        ));
+    }
     let out = opts
         .output
         .clone()
@@ -134,7 +150,10 @@ pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<
         let _ = ctrlc::set_handler(move || stop.store(true, Ordering::SeqCst));
     }
     let wall = Instant::now();
-    let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(|e| e.to_string())?;
+    let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(|e| match e {
+        EngineError::Unsupported(m) => RunError::Unsupported(m),
+        other => RunError::Failed(other.to_string()),
+    })?;
     let (a, b) = engine.kernel_size();
     eprintln!(
         "turbid: {} — {} parcels, {} threads, concentration window {:.2} mm across × {:.2} mm ahead",
@@ -147,8 +166,8 @@ pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<
     let mut progress = Progress::new(opts.progress, setup.run.end_time, opts.log_every);
     let record = engine.run(&mut progress, Some(&stop));
     progress.finish();
-    output::write_netcdf(&record, &out).map_err(|e| e.to_string())?;
-    output::write_settling_csv(&record, &csv).map_err(|e| e.to_string())?;
+    output::write_netcdf(&record, &out).map_err(|e| RunError::Failed(e.to_string()))?;
+    output::write_settling_csv(&record, &csv).map_err(|e| RunError::Failed(e.to_string()))?;
     summary(&record, &out, &csv, wall.elapsed(), progress.rate());
     Ok(match record.status {
         RunStatus::Complete => Outcome::Complete,

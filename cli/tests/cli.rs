@@ -122,3 +122,30 @@ fn schema_prints_json() {
 fn unknown_command_exits_2() {
     assert_eq!(turbid(&["settle-everything"]).status.code(), Some(2));
 }
+
+#[test]
+fn run_refuses_what_the_particle_engine_does_not_model() {
+    // Bed compression is not modelled by the particle engine yet: refused with
+    // a reason and exit 2, never silently ignored.
+    let dir = std::env::temp_dir().join(format!("turbid-cli-unsupported-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let base = std::fs::read_to_string(repo().join("scenarios/glass-beads-column.yaml")).unwrap();
+    let body = base.replace(
+        "  max_packing: 0.62",
+        "  max_packing: 0.62\n  compression:\n    power_law: { yield_stress: \"1 Pa\", gel_point: 0.2, exponent: 6 }",
+    );
+    assert_ne!(body, base);
+    let path = dir.join("compression.yaml");
+    std::fs::write(&path, body).unwrap();
+    let out = turbid(&[
+        "run",
+        path.to_str().unwrap(),
+        "-o",
+        dir.join("x.h5").to_str().unwrap(),
+    ]);
+    let stderr = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("compression"), "{stderr}");
+    assert!(!dir.join("x.h5").exists());
+    std::fs::remove_dir_all(&dir).ok();
+}

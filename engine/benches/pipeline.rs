@@ -80,7 +80,8 @@ fn main() {
                 }
                 let wall = t0.elapsed().as_secs_f64();
                 let after = engine.stage_times();
-                let total: f64 = after
+                // Time spent in each stage during the timed steps only.
+                let spent: Vec<(&str, f64)> = after
                     .stages
                     .iter()
                     .map(|(name, d)| {
@@ -89,23 +90,13 @@ fn main() {
                             .iter()
                             .find(|(n, _)| n == name)
                             .map_or(0.0, |(_, p)| p.as_secs_f64());
-                        d.as_secs_f64() - prev
+                        (*name, d.as_secs_f64() - prev)
                     })
-                    .sum();
-                let split: Vec<String> = after
-                    .stages
+                    .collect();
+                let total: f64 = spent.iter().map(|(_, t)| t).sum();
+                let split: Vec<String> = spent
                     .iter()
-                    .map(|(name, d)| {
-                        let prev = before
-                            .stages
-                            .iter()
-                            .find(|(n, _)| n == name)
-                            .map_or(0.0, |(_, p)| p.as_secs_f64());
-                        format!(
-                            "{name} {:.0}",
-                            100.0 * (d.as_secs_f64() - prev) / total.max(1e-12)
-                        )
-                    })
+                    .map(|(name, t)| format!("{name} {:.0}", 100.0 * t / total.max(1e-12)))
                     .collect();
                 println!(
                     "{:>9} {:>7} {:>9} {:>15.3e} {:>10.1}   {}",

@@ -9,6 +9,7 @@ pub mod kynch;
 
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
+use turbid_engine::physics::drag::DragLaw;
 
 /// Absolute path of a file in `tests/data/`.
 pub fn data_path(name: &str) -> PathBuf {
@@ -121,5 +122,51 @@ pub fn assert_rel(actual: f64, expected: f64, tol: f64, what: &str) {
     assert!(
         r <= tol,
         "{what}: got {actual:.10e}, expected {expected:.10e} (rel. diff {r:.3e} > tol {tol:.1e})"
+    );
+}
+
+/// Every drag law of the engine with the suffix of its columns in
+/// `drag_coefficients.csv` and `terminal_velocity_quartz_20C.csv`.
+pub fn drag_laws() -> Vec<(DragLaw, &'static str)> {
+    vec![
+        (DragLaw::Stokes, "stokes"),
+        (DragLaw::SchillerNaumann, "schiller_naumann"),
+        (DragLaw::CliftGraceWeber, "clift_grace_weber"),
+        (DragLaw::BrownLawler, "brown_lawler"),
+        (
+            DragLaw::HaiderLevenspiel { sphericity: 1.0 },
+            "haider_levenspiel_psi1",
+        ),
+        (
+            DragLaw::HaiderLevenspiel { sphericity: 0.8 },
+            "haider_levenspiel_psi0p8",
+        ),
+        (
+            DragLaw::FERGUSON_CHURCH_SMOOTH_SPHERES,
+            "ferguson_church_18_0p4",
+        ),
+        (
+            DragLaw::FERGUSON_CHURCH_NATURAL_SIEVE,
+            "ferguson_church_18_1p0",
+        ),
+        (DragLaw::two_term_derived(0.44), "two_term_24_0p44"),
+    ]
+}
+
+/// Assert `actual` rounds to `printed` (as printed in a published table, in
+/// plain or e-notation): |actual − printed| ≤ half a unit in the last digit.
+#[track_caller]
+pub fn assert_printed(actual: f64, printed: &str, what: &str) {
+    let expected: f64 = printed.parse().unwrap();
+    let (mantissa, exponent) = match printed.split_once('e') {
+        Some((m, e)) => (m, e.parse::<i32>().unwrap()),
+        None => (printed, 0),
+    };
+    let decimals = mantissa.split_once('.').map_or(0, |(_, frac)| frac.len()) as i32;
+    let half_unit = 0.5 * 10f64.powi(exponent - decimals);
+    let err = (actual - expected).abs();
+    assert!(
+        err <= half_unit * (1.0 + 1e-9),
+        "{what}: got {actual:.6e}, printed {printed} (|diff| {err:.2e} > half a last digit {half_unit:.1e})"
     );
 }

@@ -15,49 +15,7 @@ use turbid_engine::physics::drag::{
 };
 use turbid_engine::physics::terminal::drag_force;
 use turbid_engine::physics::{Fluid, Particle};
-use turbid_validation::{Table, assert_rel, rel_diff};
-
-/// Every law of the engine with the suffix of its column in
-/// `drag_coefficients.csv` and `terminal_velocity_quartz_20C.csv`.
-fn laws() -> Vec<(DragLaw, &'static str)> {
-    vec![
-        (DragLaw::Stokes, "stokes"),
-        (DragLaw::SchillerNaumann, "schiller_naumann"),
-        (DragLaw::CliftGraceWeber, "clift_grace_weber"),
-        (DragLaw::BrownLawler, "brown_lawler"),
-        (
-            DragLaw::HaiderLevenspiel { sphericity: 1.0 },
-            "haider_levenspiel_psi1",
-        ),
-        (
-            DragLaw::HaiderLevenspiel { sphericity: 0.8 },
-            "haider_levenspiel_psi0p8",
-        ),
-        (
-            DragLaw::FERGUSON_CHURCH_SMOOTH_SPHERES,
-            "ferguson_church_18_0p4",
-        ),
-        (
-            DragLaw::FERGUSON_CHURCH_NATURAL_SIEVE,
-            "ferguson_church_18_1p0",
-        ),
-        (DragLaw::two_term_derived(0.44), "two_term_24_0p44"),
-    ]
-}
-
-/// Assert `actual` rounds to `printed` (a value as printed in a published
-/// table): |actual − printed| ≤ half a unit in the last printed digit.
-#[track_caller]
-fn assert_printed(actual: f64, printed: &str, what: &str) {
-    let expected: f64 = printed.parse().unwrap();
-    let decimals = printed.split_once('.').map_or(0, |(_, frac)| frac.len()) as i32;
-    let half_unit = 0.5 * 10f64.powi(-decimals);
-    let err = (actual - expected).abs();
-    assert!(
-        err <= half_unit * (1.0 + 1e-9),
-        "{what}: got {actual:.8}, printed {printed} (|diff| {err:.2e} > half a last digit {half_unit:.0e})"
-    );
-}
+use turbid_validation::{Table, assert_printed, assert_rel, drag_laws, rel_diff};
 
 #[test]
 fn every_law_matches_the_python_reference_table() {
@@ -66,7 +24,7 @@ fn every_law_matches_the_python_reference_table() {
     // Ferguson–Church by brentq instead of the closed form.
     let table = Table::read("drag_coefficients.csv");
     let re = table.col("re [-]");
-    for (law, column) in laws() {
+    for (law, column) in drag_laws() {
         let expected = table.col(&format!("cd_{column} [-]"));
         let mut worst = 0.0_f64;
         for (&r, &e) in re.iter().zip(&expected) {
@@ -310,7 +268,7 @@ fn ferguson_church_implied_drag_limits() {
 fn best_number_is_finite_as_re_goes_to_zero() {
     // C_D ~ 24/Re as Re → 0 for every law (Stokes limit), so C_D·Re → 24 and
     // C_D·Re² → 24·Re → 0 (exact limits of each formula).
-    for (law, column) in laws() {
+    for (law, column) in drag_laws() {
         assert_eq!(law.best_number(0.0), 0.0, "{column}: C_D·Re² at Re = 0");
         assert_rel(
             law.cd_re(0.0),
@@ -337,7 +295,7 @@ fn best_number_is_finite_as_re_goes_to_zero() {
 fn drag_is_never_below_stokes_drag() {
     // C_D ≥ 24/Re is what brackets the terminal-velocity search in (0, Ar/18]
     // (physics.md §1.1); checked on a dense log grid from 1e-8 to 1e8.
-    let mut all = laws();
+    let mut all = drag_laws();
     all.push((
         DragLaw::HaiderLevenspiel { sphericity: 0.3 },
         "haider_levenspiel_psi0p3",
@@ -415,7 +373,7 @@ fn drag_force_agrees_with_the_drag_coefficient_definition() {
         density: 2650.0,
     };
     let area = std::f64::consts::PI * p.diameter * p.diameter / 4.0;
-    for (law, column) in laws() {
+    for (law, column) in drag_laws() {
         let cd = table.col(&format!("cd_{column} [-]"));
         for (&r, &c) in re.iter().zip(&cd) {
             let v = r * fluid.viscosity / (fluid.density * p.diameter);
@@ -490,7 +448,7 @@ fn names_and_constants() {
         DragLaw::FERGUSON_CHURCH_NATURAL_SIEVE,
         DragLaw::FergusonChurch { c1: 18.0, c2: 1.0 }
     );
-    let names: Vec<&str> = laws().iter().map(|(l, _)| l.name()).collect();
+    let names: Vec<&str> = drag_laws().iter().map(|(l, _)| l.name()).collect();
     assert_eq!(
         names,
         [

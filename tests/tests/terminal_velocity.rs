@@ -19,7 +19,7 @@ use turbid_engine::physics::terminal::{
     Terminal, drag_force, relaxation_time, stokes_velocity, terminal_velocity,
 };
 use turbid_engine::physics::{Fluid, Particle, STANDARD_GRAVITY};
-use turbid_validation::{Table, assert_rel, rel_diff};
+use turbid_validation::{Table, assert_printed, assert_rel, drag_laws, rel_diff};
 
 const G: f64 = STANDARD_GRAVITY;
 
@@ -35,51 +35,6 @@ fn quartz(d: f64) -> Particle {
         diameter: d,
         density: 2650.0,
     }
-}
-
-/// Every law with the suffix of its columns in the reference tables.
-fn laws() -> Vec<(DragLaw, &'static str)> {
-    vec![
-        (DragLaw::Stokes, "stokes"),
-        (DragLaw::SchillerNaumann, "schiller_naumann"),
-        (DragLaw::CliftGraceWeber, "clift_grace_weber"),
-        (DragLaw::BrownLawler, "brown_lawler"),
-        (
-            DragLaw::HaiderLevenspiel { sphericity: 1.0 },
-            "haider_levenspiel_psi1",
-        ),
-        (
-            DragLaw::HaiderLevenspiel { sphericity: 0.8 },
-            "haider_levenspiel_psi0p8",
-        ),
-        (
-            DragLaw::FERGUSON_CHURCH_SMOOTH_SPHERES,
-            "ferguson_church_18_0p4",
-        ),
-        (
-            DragLaw::FERGUSON_CHURCH_NATURAL_SIEVE,
-            "ferguson_church_18_1p0",
-        ),
-        (DragLaw::two_term_derived(0.44), "two_term_24_0p44"),
-    ]
-}
-
-/// Assert `actual` rounds to `printed` (as printed in a published table, in
-/// plain or e-notation): |actual − printed| ≤ half a unit in the last digit.
-#[track_caller]
-fn assert_printed(actual: f64, printed: &str, what: &str) {
-    let expected: f64 = printed.parse().unwrap();
-    let (mantissa, exponent) = match printed.split_once('e') {
-        Some((m, e)) => (m, e.parse::<i32>().unwrap()),
-        None => (printed, 0),
-    };
-    let decimals = mantissa.split_once('.').map_or(0, |(_, frac)| frac.len()) as i32;
-    let half_unit = 0.5 * 10f64.powi(exponent - decimals);
-    let err = (actual - expected).abs();
-    assert!(
-        err <= half_unit * (1.0 + 1e-9),
-        "{what}: got {actual:.6e}, printed {printed} (|diff| {err:.2e} > half a last digit {half_unit:.1e})"
-    );
 }
 
 /// Relative force-balance residual |F(v_t) − W| / W.
@@ -99,7 +54,7 @@ fn quartz_in_water_matches_the_python_reference() {
     let rho_f = table.col("rho_f [kg/m^3]");
     let mu = table.col("mu [Pa s]");
     let g = table.col("g [m/s^2]");
-    for (law, column) in laws() {
+    for (law, column) in drag_laws() {
         let v_ref = table.col(&format!("v_{column} [m/s]"));
         let re_ref = table.col(&format!("re_{column} [-]"));
         let mut worst = 0.0_f64;
@@ -341,7 +296,7 @@ fn root_search_balances_forces_everywhere_and_grows_with_size() {
     // weight at a branch boundary (no exact root there): then Re is that
     // boundary and the residual is at most the jump (0.76 %, see drag.rs
     // test `piecewise_laws_jump_where_expected`).
-    let mut all = laws();
+    let mut all = drag_laws();
     all.push((
         DragLaw::HaiderLevenspiel { sphericity: 0.5 },
         "haider_levenspiel_psi0p5",
@@ -592,7 +547,7 @@ fn light_particles_rise_and_degenerate_cases_are_safe() {
     // Drag is symmetric in the direction of motion, so a particle lighter by Δρ
     // rises at the speed at which one heavier by Δρ sinks (exact).
     let f = WATER_20C;
-    for (law, _) in laws() {
+    for (law, _) in drag_laws() {
         for d in [1e-6, 1e-4, 1e-2] {
             let heavy = terminal_velocity(
                 &law,
@@ -659,7 +614,7 @@ fn relaxation_time_is_the_secant_time_constant() {
     // terminal velocity (definition, terminal.rs); in Stokes flow exactly
     // (ρp + ½ρf) d²/(18μ).
     let f = WATER_20C;
-    for (law, column) in laws() {
+    for (law, column) in drag_laws() {
         for d in [1e-6, 1e-4, 1e-3, 1e-2] {
             let p = quartz(d);
             let t = terminal_velocity(&law, &p, &f, G);

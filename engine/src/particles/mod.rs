@@ -29,8 +29,9 @@ struct Step;
 pub enum EngineError {
     #[error("cannot start a pool of {threads} threads: {reason}")]
     Threads { threads: usize, reason: String },
+    /// The scenario asks for something this engine does not model yet.
     #[error("{0}")]
-    Setup(String),
+    Unsupported(String),
 }
 
 /// Progress reports from a running engine.
@@ -98,6 +99,13 @@ pub fn parcels_per_class(shares: &[f64], total: u64) -> Vec<u64> {
 impl ParticleEngine {
     /// Build the world for `setup`; `threads` sizes the pool for the hot loops.
     pub fn new(setup: &Setup, scenario_yaml: &str, threads: usize) -> Result<Self, EngineError> {
+        if setup.compression.is_some() {
+            return Err(EngineError::Unsupported(
+                "the particle engine does not model bed compression yet (`models.compression`); \
+                 remove it, or run the scenario with `run: { engine: continuum }`"
+                    .to_string(),
+            ));
+        }
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads.max(1))
             .build()

@@ -4,8 +4,8 @@
 use super::distribution::{ClassShare, Distribution};
 use super::error::Problem;
 use super::locate::Locations;
-pub use super::spec::SearchSpec;
 use super::spec::*;
+pub use super::spec::{EngineSpec, SearchSpec};
 use super::units::Loading;
 use crate::physics::drag::DragLaw;
 use crate::physics::hindered::{ExponentRule, HinderedLaw};
@@ -116,6 +116,19 @@ pub struct Numerics {
     pub search: SearchSpec,
     /// Dispersion diffusivity, m²/s (0 for none).
     pub dispersion: f64,
+    /// Cells over the height (continuum engine).
+    pub cells: usize,
+}
+
+/// Power-law effective solids stress σe = σ0((φ/φc)^k − 1) above φc.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Compression {
+    /// σ0, Pa.
+    pub yield_stress: f64,
+    /// φc.
+    pub gel_point: f64,
+    /// k.
+    pub exponent: f64,
 }
 
 /// Output settings.
@@ -142,6 +155,10 @@ pub struct Setup {
     pub initial_volume_fraction: f64,
     pub max_packing: f64,
     pub hindered: HinderedChoice,
+    /// Bed compression, if the scenario gives it.
+    pub compression: Option<Compression>,
+    /// Which engine runs the scenario.
+    pub engine: EngineSpec,
     pub run: RunControl,
     pub numerics: Numerics,
     pub output: OutputControl,
@@ -725,12 +742,58 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
             "leave it out for no dispersion",
         );
     }
+    if !(10..=100_000).contains(&nm.cells) {
+        ck.refuse(
+            "numerics.cells",
+            format!(
+                "the continuum grid needs 10–100000 cells, found {}",
+                nm.cells
+            ),
+            "200–1000 cells resolve a laboratory column",
+        );
+    }
+    let compression = match &spec.models.compression {
+        None => None,
+        Some(CompressionSpec::PowerLaw {
+            yield_stress,
+            gel_point,
+            exponent,
+        }) => {
+            let key = "models.compression.power_law";
+            ck.positive(
+                &format!("{key}.yield_stress"),
+                yield_stress.si(),
+                "yield stress",
+                "Pa",
+            );
+            if !(gel_point.is_finite() && *gel_point > 0.0 && *gel_point < max_packing) {
+                ck.refuse(
+                    &format!("{key}.gel_point"),
+                    format!("the gel point must lie between 0 and the maximum packing fraction ({max_packing}), found {gel_point}"),
+                    "flocculated slurries gel at volume fractions of about 0.05–0.25",
+                );
+            }
+            if !(exponent.is_finite() && *exponent > 1.0) {
+                ck.refuse(
+                    &format!("{key}.exponent"),
+                    format!("the stress exponent must exceed 1, found {exponent}"),
+                    "values of 5–10 are typical",
+                );
+            }
+            Some(Compression {
+                yield_stress: yield_stress.si(),
+                gel_point: *gel_point,
+                exponent: *exponent,
+            })
+        }
+    };
     let numerics = Numerics {
         neighbours: nm.neighbours,
         kernel_aspect: nm.kernel_aspect,
         courant: nm.courant,
         search: nm.neighbour_search,
         dispersion,
+        cells: nm.cells as usize,
     };
     if nclasses > MAX_TOTAL_CLASSES {
         ck.refuse(
@@ -811,6 +874,8 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         initial_volume_fraction: phi0,
         max_packing,
         hindered,
+        compression,
+        engine: spec.run.engine,
         run,
         numerics,
         output: OutputControl {

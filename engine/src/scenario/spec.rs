@@ -8,7 +8,7 @@
 //! choice is written `drag: clift_grace_weber` or `size: { log_normal: {...} }`.
 
 use super::units::{
-    Density, Diffusivity, Duration, Fraction, Length, LinearDragCoefficient, Loading,
+    Density, Diffusivity, Duration, Fraction, Length, LinearDragCoefficient, Loading, Pressure,
     QuadraticDragCoefficient, SpecificVolume, Temperature, Velocity, Viscosity,
 };
 use schemars::{JsonSchema, Schema, SchemaGenerator, json_schema};
@@ -198,6 +198,25 @@ pub struct ModelsSpec {
     /// Volume fraction at which particles come to rest in a bed (0 < φmax ≤ 0.9).
     #[serde(default = "default_max_packing")]
     pub max_packing: f64,
+    /// Bed compression above a gel point (default: none, the bed is rigid).
+    #[serde(default)]
+    pub compression: Option<CompressionSpec>,
+}
+
+/// Effective solids stress of a networked bed, which carries part of the
+/// weight above the gel point and lets the bed consolidate with load and time.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum CompressionSpec {
+    /// σe(φ) = σ0((φ/φc)^k − 1) above the gel point φc, zero below.
+    PowerLaw {
+        /// σ0, e.g. "1.0 Pa".
+        yield_stress: Pressure,
+        /// Gel point φc, the volume fraction where the particles first form a network.
+        gel_point: f64,
+        /// Exponent k (> 1).
+        exponent: f64,
+    },
 }
 
 fn default_max_packing() -> f64 {
@@ -212,6 +231,7 @@ impl Default for ModelsSpec {
             drag: DragSpec::default(),
             hindered: HinderedSpec::default(),
             max_packing: default_max_packing(),
+            compression: None,
         }
     }
 }
@@ -370,6 +390,20 @@ pub struct RunSpec {
     /// Seed of the random streams; the same seed gives the same results.
     #[serde(default)]
     pub seed: u64,
+    /// Which engine runs the scenario.
+    #[serde(default)]
+    pub engine: EngineSpec,
+}
+
+/// The two engines; both read the same scenario and write the same outputs.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum EngineSpec {
+    /// Computational parcels with hindered settling from the local concentration.
+    #[default]
+    Particles,
+    /// A 1-D finite-volume solver over height (noise-free profiles).
+    Continuum,
 }
 
 /// Output file and resolution.
@@ -407,6 +441,13 @@ pub struct NumericsSpec {
     /// Hydrodynamic dispersion: a random walk with this diffusivity (default none).
     #[serde(default)]
     pub dispersion: Option<Diffusivity>,
+    /// Cells over the height for the continuum engine (10–100000).
+    #[serde(default = "default_cells")]
+    pub cells: u32,
+}
+
+fn default_cells() -> u32 {
+    400
 }
 
 fn default_neighbours() -> u32 {
@@ -431,6 +472,7 @@ impl Default for NumericsSpec {
             courant: default_courant(),
             neighbour_search: SearchSpec::default(),
             dispersion: None,
+            cells: default_cells(),
         }
     }
 }

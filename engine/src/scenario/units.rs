@@ -40,6 +40,7 @@ pub enum Kind {
     LinearDragCoefficient,
     QuadraticDragCoefficient,
     Diffusivity,
+    Pressure,
 }
 
 const HOUR: f64 = 3600.0;
@@ -145,6 +146,7 @@ impl Kind {
                 }
             }
             Kind::SpecificVolume => const { &[u(&["m³/kg", "m3/kg", "L/g", "l/g"], 1.0)] },
+            Kind::Pressure => const { &[u(&["Pa"], 1.0), u(&["kPa"], 1e3), u(&["MPa"], 1e6)] },
             Kind::Diffusivity => {
                 const {
                     &[
@@ -184,6 +186,7 @@ impl Kind {
             Kind::LinearDragCoefficient => "a linear drag coefficient",
             Kind::QuadraticDragCoefficient => "a quadratic drag coefficient",
             Kind::Diffusivity => "a diffusivity",
+            Kind::Pressure => "a pressure (stress)",
         }
     }
 
@@ -221,6 +224,7 @@ impl Kind {
             Kind::LinearDragCoefficient => "\"2.8e-6 N·s/m\"",
             Kind::QuadraticDragCoefficient => "\"1.7e-5 N·s²/m²\"",
             Kind::Diffusivity => "\"1.0e-7 m²/s\"",
+            Kind::Pressure => "\"2.5 Pa\"",
         }
     }
 
@@ -442,6 +446,11 @@ quantity!(
     /// A specific volume in m³/kg (accepts m³/kg, L/g).
     SpecificVolume,
     Kind::SpecificVolume
+);
+quantity!(
+    /// A pressure or stress in Pa (accepts Pa, kPa, MPa).
+    Pressure,
+    Kind::Pressure
 );
 quantity!(
     /// A diffusivity in m²/s (accepts m²/s, cm²/s, mm²/s).
