@@ -49,6 +49,21 @@ pub fn render(file: &Path, s: &Setup) -> String {
             v0 * 3600.0,
             k
         ),
+        HinderedChoice::Takacs {
+            v0_max,
+            v0,
+            r_hindered,
+            r_flocculant,
+            min_concentration,
+        } => format!(
+            "Takács v = min(v0′, v0[e^(−r_h(C − C_min)) − e^(−r_p(C − C_min))]), v0′ = {:.1} m/d, \
+             v0 = {:.1} m/d, r_h = {:.3e} m³/kg, r_p = {:.3e} m³/kg, C_min = {:.3} kg/m³",
+            v0_max * 86400.0,
+            v0 * 86400.0,
+            r_hindered,
+            r_flocculant,
+            min_concentration
+        ),
     };
     let _ = writeln!(o, "Hindered  {hindered}");
     for (i, sp) in s.species.iter().enumerate() {

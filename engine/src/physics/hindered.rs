@@ -126,6 +126,40 @@ pub fn vesilind(v0: f64, k: f64, mass_concentration: f64) -> f64 {
     v0 * (-k * mass_concentration.max(0.0)).exp()
 }
 
+/// Takács double-exponential settling velocity of activated sludge [m/s]
+/// (Takács, Patry & Nolasco 1991, Water Res. 25(10), 1263–1271 [M];
+/// physics.md §3.4):
+///
+/// v = max(0, min(v0′, v0 [e^(−r_h (X − X_min)) − e^(−r_p (X − X_min))]))
+///
+/// with `v0_max` = v0′ the largest settling velocity [m/s], `v0` the
+/// velocity scale [m/s], `r_hindered` = r_h [m³/kg] for the hindered zone,
+/// `r_flocculant` = r_p [m³/kg] for the slowly settling (flocculant) zone at
+/// low concentration, `min_concentration` = X_min [kg/m³], the
+/// non-settleable solids (in the source X_min = f_ns·X_f, a fraction f_ns of
+/// the feed concentration X_f, which the caller works out), and the
+/// suspended-solids `mass_concentration` X [kg/m³].
+///
+/// With r_p > r_h the bracket is negative below X_min (so v = 0: those
+/// solids do not settle), zero at X_min, rises to its maximum at
+/// X_min + ln(r_p/r_h)/(r_p − r_h), where v0′ may cap it, then decays like
+/// v0 e^(−r_h (X − X_min)). The velocity therefore grows with X at low
+/// concentrations, unlike the other laws in this module.
+pub fn takacs(
+    v0_max: f64,
+    v0: f64,
+    r_hindered: f64,
+    r_flocculant: f64,
+    min_concentration: f64,
+    mass_concentration: f64,
+) -> f64 {
+    let excess = mass_concentration - min_concentration;
+    // e^(−r_h ΔX) − e^(−r_p ΔX) = −e^(−r_h ΔX)·expm1(−(r_p − r_h) ΔX): no
+    // cancellation just above X_min.
+    let bracket = -(-r_hindered * excess).exp() * (-(r_flocculant - r_hindered) * excess).exp_m1();
+    (v0 * bracket).min(v0_max).max(0.0)
+}
+
 /// A hindered-settling law v(φ), chosen per scenario.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum HinderedLaw {
@@ -136,6 +170,18 @@ pub enum HinderedLaw {
     /// [`vesilind`] with `v0` [m/s], `k` [m³/kg]; X = `solid_density`·φ with
     /// `solid_density` [kg/m³]. Ignores the particle's terminal velocity.
     Vesilind { v0: f64, k: f64, solid_density: f64 },
+    /// [`takacs`] with `v0_max` = v0′ and `v0` [m/s], `r_hindered` = r_h and
+    /// `r_flocculant` = r_p [m³/kg], `min_concentration` = X_min [kg/m³];
+    /// X = `solid_density`·φ with `solid_density` [kg/m³]. Ignores the
+    /// particle's terminal velocity.
+    Takacs {
+        v0_max: f64,
+        v0: f64,
+        r_hindered: f64,
+        r_flocculant: f64,
+        min_concentration: f64,
+        solid_density: f64,
+    },
 }
 
 impl HinderedLaw {
@@ -144,8 +190,9 @@ impl HinderedLaw {
     /// maximum packing fraction `phi_max` [-].
     ///
     /// Every law returns 0 at φ ≥ φmax: the packed bed does not settle further
-    /// (consolidation is a separate term). For Richardson–Zaki and Vesilind
-    /// this is a jump, since their own formulas are still positive there.
+    /// (consolidation is a separate term). For Richardson–Zaki, Vesilind and
+    /// Takács this is a jump, since their own formulas are still positive
+    /// there.
     pub fn velocity(&self, v_terminal: f64, phi: f64, phi_max: f64) -> f64 {
         if phi >= phi_max {
             return 0.0;
@@ -158,6 +205,21 @@ impl HinderedLaw {
                 k,
                 solid_density,
             } => vesilind(v0, k, solid_density * phi),
+            HinderedLaw::Takacs {
+                v0_max,
+                v0,
+                r_hindered,
+                r_flocculant,
+                min_concentration,
+                solid_density,
+            } => takacs(
+                v0_max,
+                v0,
+                r_hindered,
+                r_flocculant,
+                min_concentration,
+                solid_density * phi,
+            ),
         }
     }
 
@@ -173,6 +235,7 @@ impl HinderedLaw {
             HinderedLaw::RichardsonZaki { .. } => "Richardson-Zaki",
             HinderedLaw::MichaelsBolger { .. } => "Michaels-Bolger",
             HinderedLaw::Vesilind { .. } => "Vesilind",
+            HinderedLaw::Takacs { .. } => "Takacs",
         }
     }
 }

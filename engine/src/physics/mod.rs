@@ -3,6 +3,7 @@
 //! Nothing here knows about parcels, grids or files: the particle engine and
 //! the continuum solver both call these same functions.
 
+pub mod compression;
 pub mod drag;
 pub mod hindered;
 pub mod polydisperse;

@@ -309,6 +309,21 @@ pub enum HinderedSpec {
         /// Concentration coefficient k, e.g. "0.45 L/g" (= m³/kg).
         k: SpecificVolume,
     },
+    /// Takács double exponential for sludges:
+    /// v = max(0, min(v0_max, v0 [e^(−r_h (C − C_min)) − e^(−r_p (C − C_min))])),
+    /// C_min = non_settleable_fraction × the initial (feed) concentration.
+    Takacs {
+        /// Cap on the settling velocity, e.g. "250 m/d".
+        v0_max: Velocity,
+        /// Velocity scale of the double exponential, e.g. "474 m/d".
+        v0: Velocity,
+        /// Hindered-settling parameter r_h, e.g. "0.576 L/g" (= m³/kg).
+        r_hindered: SpecificVolume,
+        /// Flocculant-zone parameter r_p, e.g. "2.86 L/g".
+        r_flocculant: SpecificVolume,
+        /// Non-settleable share of the feed solids f_ns (0 ≤ f_ns < 1).
+        non_settleable_fraction: f64,
+    },
 }
 
 impl Default for HinderedSpec {
