@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
+use turbid_engine::continuum::ContinuumEngine;
 use turbid_engine::output;
 use turbid_engine::particles::{EngineError, Monitor, ParticleEngine};
 use turbid_engine::record::{RunRecord, RunStatus};
@@ -30,12 +31,14 @@ struct Progress {
     started: Instant,
     last_log: Instant,
     parcel_steps: u64,
+    /// What one update is ("parcel" or "cell"), for the rate.
+    unit: &'static str,
 }
 
 const TICKS_PER_SECOND: f64 = 1000.0;
 
 impl Progress {
-    fn new(mode: ProgressMode, end: f64, log_every: Duration) -> Progress {
+    fn new(mode: ProgressMode, end: f64, log_every: Duration, unit: &'static str) -> Progress {
         let terminal =
             std::io::stderr().is_terminal() && std::env::var("TERM").map_or(true, |t| t != "dumb");
         let bar = match (mode, terminal) {
@@ -65,6 +68,7 @@ impl Progress {
             started: now,
             last_log: now,
             parcel_steps: 0,
+            unit,
         }
     }
 
@@ -85,8 +89,9 @@ impl Monitor for Progress {
         if let Some(pb) = &self.bar {
             pb.set_position((time * TICKS_PER_SECOND) as u64);
             pb.set_message(format!(
-                "t = {time:.1} / {end:.1} s, {:.3e} parcel-steps/s",
-                self.rate()
+                "t = {time:.1} / {end:.1} s, {:.3e} {}-steps/s",
+                self.rate(),
+                self.unit
             ));
         }
         if let Some(every) = self.log_every
@@ -97,9 +102,10 @@ impl Monitor for Progress {
             let frac = (time / end).clamp(1e-9, 1.0);
             let eta = elapsed.mul_f64((1.0 - frac) / frac);
             eprintln!(
-                "progress: t = {time:.1} / {end:.1} s ({:.1} %), {:.3e} parcel-steps/s, elapsed {}, eta {}",
+                "progress: t = {time:.1} / {end:.1} s ({:.1} %), {:.3e} {}-steps/s, elapsed {}, eta {}",
                 100.0 * frac,
                 self.rate(),
+                self.unit,
                 HumanDuration(elapsed),
                 HumanDuration(eta)
             );
@@ -130,13 +136,6 @@ pub enum RunError {
 }
 
 pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, RunError> {
-    if setup.engine == EngineSpec::Continuum {
-        return Err(RunError::Unsupported(
-            "the continuum engine (`run: { engine: continuum }`) is not available in this build yet; \
-             use `engine: particles`"
-                .to_string(),
-        ));
-    }
     let out = opts
         .output
         .clone()
@@ -149,33 +148,58 @@ pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<
         // the run still works, it just cannot save partial results on a signal.
         let _ = ctrlc::set_handler(move || stop.store(true, Ordering::SeqCst));
     }
-    let wall = Instant::now();
-    let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(|e| match e {
+    let refused = |e: EngineError| match e {
         EngineError::Unsupported(m) => RunError::Unsupported(m),
         other => RunError::Failed(other.to_string()),
-    })?;
-    let (a, b) = engine.kernel_size();
-    eprintln!(
-        "turbid: {} — {} parcels, {} threads, concentration window {:.2} mm across × {:.2} mm ahead",
-        file.display(),
-        setup.run.parcels,
-        opts.threads,
-        2.0 * a * 1e3,
-        b * 1e3
-    );
-    let mut progress = Progress::new(opts.progress, setup.run.end_time, opts.log_every);
-    let record = engine.run(&mut progress, Some(&stop));
+    };
+    let wall = Instant::now();
+    let (record, progress) = match setup.engine {
+        EngineSpec::Particles => {
+            let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(refused)?;
+            let (a, b) = engine.kernel_size();
+            eprintln!(
+                "turbid: {} — particle engine, {} parcels, {} threads, concentration window {:.2} mm across × {:.2} mm ahead",
+                file.display(),
+                setup.run.parcels,
+                opts.threads,
+                2.0 * a * 1e3,
+                b * 1e3
+            );
+            let mut progress =
+                Progress::new(opts.progress, setup.run.end_time, opts.log_every, "parcel");
+            (engine.run(&mut progress, Some(&stop)), progress)
+        }
+        EngineSpec::Continuum => {
+            let mut engine = ContinuumEngine::new(setup, text).map_err(refused)?;
+            eprintln!(
+                "turbid: {} — continuum engine, {} cells of {:.2} mm",
+                file.display(),
+                engine.cells(),
+                engine.cell_height() * 1e3
+            );
+            let mut progress =
+                Progress::new(opts.progress, setup.run.end_time, opts.log_every, "cell");
+            (engine.run(&mut progress, Some(&stop)), progress)
+        }
+    };
     progress.finish();
     output::write_netcdf(&record, &out).map_err(|e| RunError::Failed(e.to_string()))?;
     output::write_settling_csv(&record, &csv).map_err(|e| RunError::Failed(e.to_string()))?;
-    summary(&record, &out, &csv, wall.elapsed(), progress.rate());
+    summary(
+        &record,
+        &out,
+        &csv,
+        wall.elapsed(),
+        progress.rate(),
+        progress.unit,
+    );
     Ok(match record.status {
         RunStatus::Complete => Outcome::Complete,
         RunStatus::Partial => Outcome::Interrupted,
     })
 }
 
-fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64) {
+fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64, unit: &str) {
     let (first, last) = match (record.frames.first(), record.frames.last()) {
         (Some(f), Some(l)) => (f, l),
         _ => return,
@@ -196,7 +220,7 @@ fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64
         "  solids balance     {balance:.2e} (largest relative change of the solids volume over all records)"
     );
     println!(
-        "  wall time          {:.1} s ({rate:.3e} parcel-steps/s)",
+        "  wall time          {:.1} s ({rate:.3e} {unit}-steps/s)",
         wall.as_secs_f64()
     );
     println!(

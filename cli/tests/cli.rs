@@ -149,3 +149,31 @@ fn run_refuses_what_the_particle_engine_does_not_model() {
     assert!(!dir.join("x.h5").exists());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn continuum_engine_runs_the_demo_column() {
+    // Same scenario, the 1-D engine: a complete record and the settling curve.
+    let dir = std::env::temp_dir().join(format!("turbid-cli-continuum-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let base = std::fs::read_to_string(repo().join("scenarios/glass-beads-column.yaml")).unwrap();
+    let body = base.replace("  seed: 7", "  seed: 7\n  engine: continuum");
+    assert_ne!(body, base);
+    let path = dir.join("continuum.yaml");
+    std::fs::write(&path, body).unwrap();
+    let out = dir.join("c.h5");
+    let run = turbid(&[
+        "run",
+        path.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--progress",
+        "none",
+    ]);
+    assert!(run.status.success(), "{}", text(&run.stderr));
+    assert!(text(&run.stderr).contains("continuum engine"));
+    let csv = std::fs::read_to_string(dir.join("c.settling.csv")).unwrap();
+    assert!(csv.contains("run_status: complete"));
+    // 121 records (every 5 s for 10 min) after the header line.
+    assert_eq!(csv.lines().filter(|l| !l.starts_with('#')).count(), 122);
+    std::fs::remove_dir_all(&dir).ok();
+}

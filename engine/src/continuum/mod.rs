@@ -1,0 +1,467 @@
+//! The continuum engine: the batch column as a 1-D finite-volume solution of
+//! the kinematic settling laws over height, recorded in the same
+//! [`RunRecord`] as the particle engine.
+//!
+//! * **One size class** ([`scalar`]): Kynch's law `∂φ/∂t + ∂f(φ)/∂x = 0`
+//!   with `f = φ v(φ)` from the class's hindered law (`Setup::hindered_law`),
+//!   by explicit Godunov finite volumes (physics.md §8.1). The Godunov flux is
+//!   exact for any law: the minimum or maximum of `f` over an interval is
+//!   taken among its ends and the interior local extrema of `f`, found once
+//!   by a scan and golden-section refinement. With `models.compression`, the
+//!   degenerate diffusion `∂²A(φ)/∂x²` of the compressible bed is added
+//!   (physics.md §6.1, §8.3) with `A` from [`crate::physics::compression`].
+//! * **Several classes** ([`system`]): the MLB system of
+//!   [`crate::physics::polydisperse`] by the Kurganov–Tadmor central scheme
+//!   (minmod reconstruction, SSP-RK2, Gershgorin speed bound).
+//!
+//! Both keep the solids inventory of every class to rounding (the fluxes
+//! telescope and the walls are closed), every class non-negative and the total
+//! at or below φmax through a conservative **packing cap** on the fluxes
+//! (see [`scalar::ScalarSolver::step`] and the [`system`] docs).
+//!
+//! # Steps and records
+//!
+//! Steps are explicit with the largest Courant-stable length
+//! (`numerics.courant`): `Δt (max|f'|/Δz + 2 max a/Δz²) = C` for one class,
+//! `Δt a_max/Δz = C/2` for several (KT's positivity bound). A step is shortened
+//! to end exactly on the next record time (`run.output_interval`, and the end
+//! time), where a [`Frame`] is taken:
+//!
+//! * profiles: cell values averaged over the record's height slabs
+//!   (`output.height_bins`), weighting each cell by its overlap with the slab,
+//!   so the slab inventory equals the cell inventory;
+//! * interface: [`interface_height`] of the slab profile (the rule both
+//!   engines share);
+//! * bed height: the height of the stack of cells, from the floor up, that
+//!   are packed — total φ ≥ φmax (1 − 1e-9) — or, with compression, above the
+//!   gel point φc, where the network carries stress. It is a whole number of
+//!   cells, so it resolves the bed to one cell height;
+//! * solids volume: `A Δz Σ φ_j` over cells and classes.
+
+pub mod scalar;
+pub mod system;
+
+use crate::particles::{EngineError, Monitor};
+use crate::physics::compression::PowerLawStress;
+use crate::record::{Frame, RecordLayout, RunRecord, RunStatus, interface_height};
+use crate::scenario::Setup;
+pub use scalar::Reconstruction;
+use scalar::{BedDiffusion, ScalarFlux, ScalarSolver};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
+pub use system::CentralFlux;
+use system::{MlbFlux, SystemSolver};
+
+/// Cells are "packed" from this fraction of φmax up (bed height).
+pub(crate) const PACKED: f64 = 1.0 - 1e-9;
+
+enum Solver {
+    Scalar(ScalarSolver),
+    System(SystemSolver),
+}
+
+/// A batch-settling run of the continuum engine.
+pub struct ContinuumEngine {
+    solver: Solver,
+    layout: RecordLayout,
+    frames: Vec<Frame>,
+    rebin: Rebin,
+    cells: usize,
+    height: f64,
+    phi0: f64,
+    phi_max: f64,
+    /// Bed threshold: φmax (1 − 1e-9), or the gel point with compression.
+    bed_level: f64,
+    courant: f64,
+    time: f64,
+    end: f64,
+    interval: f64,
+    next_record: u64,
+    steps: u64,
+    scenario_yaml: String,
+    title: String,
+    seed: u64,
+}
+
+impl ContinuumEngine {
+    /// Build the grid for `setup` with `setup.numerics.cells` cells over the
+    /// fill height, uniform at the initial loading.
+    ///
+    /// Refuses (`EngineError::Unsupported`) bed compression together with
+    /// several size classes, which this engine does not model.
+    pub fn new(setup: &Setup, scenario_yaml: &str) -> Result<Self, EngineError> {
+        Self::with_schemes(
+            setup,
+            scenario_yaml,
+            Reconstruction::default(),
+            CentralFlux::default(),
+        )
+    }
+
+    /// As [`new`](Self::new), with the face reconstruction of the one-class
+    /// solver and the interface flux of the several-class solver chosen (the
+    /// several-class solver always reconstructs linearly with minmod).
+    pub fn with_schemes(
+        setup: &Setup,
+        scenario_yaml: &str,
+        reconstruction: Reconstruction,
+        central: CentralFlux,
+    ) -> Result<Self, EngineError> {
+        let cells = setup.numerics.cells;
+        if cells < 3 {
+            return Err(EngineError::Unsupported(format!(
+                "the continuum engine needs at least 3 cells, got {cells}"
+            )));
+        }
+        if setup.classes.is_empty() {
+            return Err(EngineError::Unsupported("no size classes to settle".into()));
+        }
+        let height = setup.column.height;
+        let phi0 = setup.initial_volume_fraction;
+        let phi_max = setup.max_packing;
+        let mut bed_level = phi_max * PACKED;
+        let solver = if setup.classes.len() == 1 {
+            let class = &setup.classes[0];
+            let law = setup.hindered_law(class);
+            let v_t = class.terminal.velocity;
+            let diffusion = setup.compression.map(|c| {
+                let stress = PowerLawStress {
+                    yield_stress: c.yield_stress,
+                    gel_point: c.gel_point,
+                    exponent: c.exponent,
+                };
+                bed_level = c.gel_point;
+                BedDiffusion::new(
+                    law,
+                    v_t,
+                    phi_max,
+                    stress,
+                    setup.species[class.species].density - setup.fluid.density,
+                    setup.gravity,
+                )
+            });
+            Solver::Scalar(ScalarSolver::new(
+                ScalarFlux::new(law, v_t, phi_max),
+                diffusion,
+                reconstruction,
+                phi_max,
+                height,
+                cells,
+                phi0,
+            ))
+        } else {
+            if setup.compression.is_some() {
+                return Err(EngineError::Unsupported(
+                    "the continuum engine models bed compression for one size class only \
+                     (`models.compression` with several classes); remove it, or describe the \
+                     solids by one size"
+                        .into(),
+                ));
+            }
+            let laws = setup
+                .classes
+                .iter()
+                .map(|c| setup.hindered_law(c))
+                .collect();
+            let v_t = setup.classes.iter().map(|c| c.terminal.velocity).collect();
+            let excess = setup
+                .classes
+                .iter()
+                .map(|c| setup.species[c.species].density - setup.fluid.density)
+                .collect();
+            let initial: Vec<f64> = setup
+                .classes
+                .iter()
+                .map(|c| phi0 * c.volume_share)
+                .collect();
+            Solver::System(SystemSolver::new(
+                MlbFlux::new(laws, v_t, excess, phi_max),
+                central,
+                phi_max,
+                height,
+                cells,
+                &initial,
+            ))
+        };
+        let layout = record_layout(setup);
+        let rebin = Rebin::new(cells, &layout.z_edges, height);
+        let mut engine = ContinuumEngine {
+            solver,
+            layout,
+            frames: Vec::new(),
+            rebin,
+            cells,
+            height,
+            phi0,
+            phi_max,
+            bed_level,
+            courant: setup.numerics.courant,
+            time: 0.0,
+            end: setup.run.end_time,
+            interval: setup.run.output_interval,
+            next_record: 1,
+            steps: 0,
+            scenario_yaml: scenario_yaml.to_string(),
+            title: setup.title.clone(),
+            seed: setup.run.seed,
+        };
+        let frame = engine.take_frame();
+        engine.frames.push(frame);
+        Ok(engine)
+    }
+
+    /// Simulated time, s.
+    pub fn time(&self) -> f64 {
+        self.time
+    }
+
+    pub fn finished(&self) -> bool {
+        self.time >= self.end
+    }
+
+    /// Number of cells over the fill height.
+    pub fn cells(&self) -> usize {
+        self.cells
+    }
+
+    /// Cell height Δz, m.
+    pub fn cell_height(&self) -> f64 {
+        self.height / self.cells as f64
+    }
+
+    /// Steps taken so far.
+    pub fn steps(&self) -> u64 {
+        self.steps
+    }
+
+    /// Interfaces at which the packing cap lowered the flux so far (stage
+    /// fluxes for several classes).
+    pub fn capped_fluxes(&self) -> u64 {
+        match &self.solver {
+            Solver::Scalar(s) => s.capped,
+            Solver::System(s) => s.capped,
+        }
+    }
+
+    /// Number of size classes.
+    pub fn classes(&self) -> usize {
+        match &self.solver {
+            Solver::Scalar(_) => 1,
+            Solver::System(s) => s.classes(),
+        }
+    }
+
+    /// Volume fraction of class `class` in every cell, from the floor up.
+    pub fn cell_profile(&self, class: usize) -> Vec<f64> {
+        match &self.solver {
+            Solver::Scalar(s) => {
+                assert_eq!(class, 0, "one class");
+                s.phi.clone()
+            }
+            Solver::System(s) => s
+                .phi
+                .chunks_exact(s.classes())
+                .map(|cell| cell[class])
+                .collect(),
+        }
+    }
+
+    /// Total volume fraction in every cell, from the floor up.
+    pub fn cell_total(&self) -> Vec<f64> {
+        match &self.solver {
+            Solver::Scalar(s) => s.phi.clone(),
+            Solver::System(s) => s
+                .phi
+                .chunks_exact(s.classes())
+                .map(|cell| cell.iter().sum())
+                .collect(),
+        }
+    }
+
+    fn next_record_time(&self) -> f64 {
+        (self.next_record as f64 * self.interval).min(self.end)
+    }
+
+    /// One step: as long as the Courant limit allows, shortened to end on the
+    /// next record time (where a frame is taken).
+    pub fn step(&mut self) {
+        if self.finished() {
+            return;
+        }
+        let target = self.next_record_time();
+        let to_record = target - self.time;
+        let taken = match &mut self.solver {
+            Solver::Scalar(s) => {
+                let dt = s.stable_step(self.courant).min(to_record);
+                s.step(dt);
+                dt
+            }
+            Solver::System(s) => s.step(to_record, self.courant),
+        };
+        self.steps += 1;
+        // A step within rounding of the record time lands on it.
+        if taken >= to_record * (1.0 - 1e-12) {
+            self.time = target;
+            let frame = self.take_frame();
+            self.frames.push(frame);
+            self.next_record += 1;
+        } else {
+            self.time += taken;
+        }
+    }
+
+    /// Run to the end time, or until `stop` is raised (then the record is
+    /// partial). Reports cell updates (cells × steps) as the work done.
+    pub fn run(&mut self, monitor: &mut dyn Monitor, stop: Option<&Arc<AtomicBool>>) -> RunRecord {
+        let mut status = RunStatus::Complete;
+        while !self.finished() {
+            if stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
+                status = RunStatus::Partial;
+                break;
+            }
+            self.step();
+            monitor.step(self.time, self.end, self.steps * self.cells as u64);
+        }
+        self.record(status)
+    }
+
+    /// The record so far.
+    pub fn record(&self, status: RunStatus) -> RunRecord {
+        RunRecord {
+            layout: self.layout.clone(),
+            frames: self.frames.clone(),
+            status,
+            scenario_yaml: self.scenario_yaml.clone(),
+            title: self.title.clone(),
+            seed: self.seed,
+            engine: "continuum".to_string(),
+            resolution: self.cells as u64,
+        }
+    }
+
+    fn take_frame(&self) -> Frame {
+        let nz = self.layout.nz();
+        let nc = self.classes();
+        let mut phi_class = vec![0.0; nc * nz];
+        let mut solids = 0.0;
+        for c in 0..nc {
+            let cells = self.cell_profile(c);
+            solids += cells.iter().sum::<f64>();
+            self.rebin
+                .average(&cells, &mut phi_class[c * nz..(c + 1) * nz]);
+        }
+        let total = self.cell_total();
+        let packed = total.iter().take_while(|&&p| p >= self.bed_level).count();
+        let mut frame = Frame {
+            time: self.time,
+            phi_class,
+            interface_height: 0.0,
+            bed_height: packed as f64 * self.cell_height(),
+            solids_volume: solids * self.cell_height() * self.layout.area,
+        };
+        frame.interface_height =
+            interface_height(&frame.phi_total(nz), &self.layout.z, self.phi0, self.height);
+        frame
+    }
+
+    /// Packing limit φmax of the run.
+    pub fn max_packing(&self) -> f64 {
+        self.phi_max
+    }
+}
+
+/// The record's fixed description, built as the particle engine builds it.
+fn record_layout(setup: &Setup) -> RecordLayout {
+    let top = setup.column.height;
+    let nz = setup.output.height_bins;
+    RecordLayout {
+        z: (0..nz)
+            .map(|k| top * (k as f64 + 0.5) / nz as f64)
+            .collect(),
+        z_edges: (0..=nz).map(|k| top * k as f64 / nz as f64).collect(),
+        class_diameter: setup.classes.iter().map(|c| c.diameter).collect(),
+        class_lower: setup.classes.iter().map(|c| c.lower).collect(),
+        class_upper: setup.classes.iter().map(|c| c.upper).collect(),
+        class_species: setup.classes.iter().map(|c| c.species).collect(),
+        species_name: setup.species.iter().map(|s| s.name.clone()).collect(),
+        species_density: setup.species.iter().map(|s| s.density).collect(),
+        class_terminal_velocity: setup.classes.iter().map(|c| c.terminal.velocity).collect(),
+        area: setup.column.area,
+    }
+}
+
+/// Overlap weights from cells to height slabs: slab `k` gets
+/// `Σ_j φ_j |cell_j ∩ slab_k| / |slab_k|`, so `Σ_k φ̄_k |slab_k| = Σ_j φ_j Δz`.
+#[derive(Debug, Clone)]
+struct Rebin {
+    /// (cell, slab, overlap / slab width), in cell order.
+    weights: Vec<(usize, usize, f64)>,
+}
+
+impl Rebin {
+    fn new(cells: usize, slab_edges: &[f64], height: f64) -> Self {
+        let nz = slab_edges.len() - 1;
+        let edge = |j: usize| height * j as f64 / cells as f64;
+        let mut weights = Vec::new();
+        let mut k = 0;
+        for j in 0..cells {
+            let (lo, hi) = (edge(j), edge(j + 1));
+            while k + 1 < nz && slab_edges[k + 1] <= lo {
+                k += 1;
+            }
+            let mut s = k;
+            while s < nz {
+                let (a, b) = (slab_edges[s], slab_edges[s + 1]);
+                let overlap = hi.min(b) - lo.max(a);
+                if overlap > 0.0 {
+                    weights.push((j, s, overlap / (b - a)));
+                }
+                if b >= hi {
+                    break;
+                }
+                s += 1;
+            }
+        }
+        Rebin { weights }
+    }
+
+    fn average(&self, cells: &[f64], slabs: &mut [f64]) {
+        slabs.fill(0.0);
+        for &(j, k, w) in &self.weights {
+            slabs[k] += w * cells[j];
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rebinning_keeps_the_inventory() {
+        // 7 cells onto 3 slabs of a 1.4 m column: Σ slab·width = Σ cell·Δz.
+        let edges: Vec<f64> = (0..=3).map(|k| 1.4 * k as f64 / 3.0).collect();
+        let r = Rebin::new(7, &edges, 1.4);
+        let cells = [0.6, 0.5, 0.4, 0.3, 0.2, 0.1, 0.0];
+        let mut slabs = [0.0; 3];
+        r.average(&cells, &mut slabs);
+        let cell_sum: f64 = cells.iter().sum::<f64>() * 0.2;
+        let slab_sum: f64 = slabs.iter().sum::<f64>() * 1.4 / 3.0;
+        assert!(
+            (cell_sum - slab_sum).abs() < 1e-15,
+            "{cell_sum} vs {slab_sum}"
+        );
+        // Slab 0 covers cells 0, 1 and 1/3 of cell 2: (0.6 + 0.5 + 0.4/3)·0.2/(1.4/3).
+        let expect = (0.6 + 0.5 + 0.4 / 3.0) * 0.2 / (1.4 / 3.0);
+        assert!(
+            (slabs[0] - expect).abs() < 1e-14,
+            "{} vs {expect}",
+            slabs[0]
+        );
+        // Identical grids copy the values.
+        let r = Rebin::new(4, &[0.0, 0.25, 0.5, 0.75, 1.0], 1.0);
+        let mut s = [0.0; 4];
+        r.average(&[0.1, 0.2, 0.3, 0.4], &mut s);
+        assert_eq!(s, [0.1, 0.2, 0.3, 0.4]);
+    }
+}
