@@ -992,23 +992,3 @@ fn bidisperse_column_ends_as_one_packed_bed() {
     // Below the bed, the cells are packed.
     assert!(total[..99].iter().all(|&p| p >= PHI_MAX2 * (1.0 - 1e-9)));
 }
-
-#[test]
-#[ignore]
-fn explore_scenarios() {
-    let which = std::env::var("SCEN").unwrap();
-    let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(format!("{which}.yaml"));
-    let setup = scenario::load(&path).unwrap();
-    let text = std::fs::read_to_string(&path).unwrap();
-    let start = Instant::now();
-    let mut e = ContinuumEngine::new(&setup, &text).unwrap();
-    let mut k = 0;
-    while !e.finished() {
-        e.step();
-        k += 1;
-        if k % 5000 == 0 { println!("step {k} t {:.1} wall {:.1}", e.time(), start.elapsed().as_secs_f64()); }
-    }
-    let r = e.record(RunStatus::Complete);
-    let last = r.frames.last().unwrap();
-    println!("{which}: {} classes, {} cells, end {} s: {} steps in {:.2} s; interface {:.4} bed {:.4}", setup.classes.len(), setup.numerics.cells, setup.run.end_time, e.steps(), start.elapsed().as_secs_f64(), last.interface_height, last.bed_height);
-}
