@@ -30,7 +30,7 @@ enum Command {
         /// Scenario file (YAML).
         file: PathBuf,
     },
-    /// Run a scenario with the particle engine and write profiles (HDF5) and the settling curve (CSV).
+    /// Run a scenario (particle or continuum engine) and write profiles (HDF5) and the settling curve (CSV).
     Run {
         /// Scenario file (YAML).
         file: PathBuf,

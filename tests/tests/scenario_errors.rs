@@ -178,3 +178,20 @@ fn several_physical_problems_are_reported_together() {
     assert!(keys.contains(&"solids[0].density"), "{keys:?}");
     assert!(keys.contains(&"vessel.column.height"), "{keys:?}");
 }
+
+#[test]
+fn unknown_format_version_is_named_first() {
+    // A file written for another format version is refused for its version,
+    // at the `format` key, before any complaint about keys it lacks.
+    let (text, line, col) = inject("format: 1", "format: 2");
+    let (_, p) = refuse(&text);
+    assert_eq!(p.len(), 1);
+    assert_eq!(p[0].key, "format");
+    assert!(p[0].message.contains("format 2"), "{:?}", p[0]);
+    assert_eq!(
+        (p[0].line, p[0].column),
+        (Some(line), Some(col + "format: ".len()))
+    );
+    let (text, _, _) = inject("format: 1\n", "format: 2\nfluid_colour: blue\n");
+    assert_eq!(refuse(&text).1[0].key, "format");
+}

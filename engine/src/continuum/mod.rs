@@ -7,25 +7,31 @@
 //!   by explicit Godunov finite volumes (physics.md §8.1). The Godunov flux is
 //!   exact for any law: the minimum or maximum of `f` over an interval is
 //!   taken among its ends and the interior local extrema of `f`, found once
-//!   by a scan and golden-section refinement. With `models.compression`, the
-//!   degenerate diffusion `∂²A(φ)/∂x²` of the compressible bed is added
-//!   (physics.md §6.1, §8.3) with `A` from [`crate::physics::compression`].
+//!   by a scan and golden-section refinement. By default the flux is taken
+//!   between minmod-limited linear face values with SSP-RK2 steps (MUSCL,
+//!   second order where smooth); piecewise-constant faces with Euler steps
+//!   (first-order Godunov) are available ([`Reconstruction`]). With
+//!   `models.compression`, the degenerate diffusion `∂²A(φ)/∂x²` of the
+//!   compressible bed is added (physics.md §6.1, §8.3) with `a` and `A` from
+//!   [`crate::physics::compression`].
 //! * **Several classes** ([`system`]): the MLB system of
-//!   [`crate::physics::polydisperse`] by the Kurganov–Tadmor central scheme
-//!   (minmod reconstruction, SSP-RK2, Gershgorin speed bound).
+//!   [`crate::physics::polydisperse`] by a semi-discrete central scheme
+//!   (minmod reconstruction, SSP-RK2, Gershgorin speed bounds):
+//!   central-upwind by default, Kurganov–Tadmor on request ([`CentralFlux`]).
 //!
 //! Both keep the solids inventory of every class to rounding (the fluxes
 //! telescope and the walls are closed), every class non-negative and the total
 //! at or below φmax through a conservative **packing cap** on the fluxes
-//! (see [`scalar::ScalarSolver::step`] and the [`system`] docs).
+//! (see [`scalar::ScalarSolver`] and the [`system`] docs).
 //!
 //! # Steps and records
 //!
-//! Steps are explicit with the largest Courant-stable length
-//! (`numerics.courant`): `Δt (max|f'|/Δz + 2 max a/Δz²) = C` for one class,
-//! `Δt a_max/Δz = C/2` for several (KT's positivity bound). A step is shortened
-//! to end exactly on the next record time (`run.output_interval`, and the end
-//! time), where a [`Frame`] is taken:
+//! Steps are explicit with the largest stable length for the Courant number
+//! `C` = `numerics.courant`: `Δt (m max|f'|/Δz + 2 max a/Δz²) = C` for one
+//! class (`m` = 2 for linear faces, 1 for constant ones), and
+//! `Δt max(a⁺, −a⁻)/Δz = C/2` for several. A step is shortened to end
+//! exactly on the next record time (`run.output_interval`, and the end time),
+//! where a [`Frame`] is taken:
 //!
 //! * profiles: cell values averaged over the record's height slabs
 //!   (`output.height_bins`), weighting each cell by its overlap with the slab,
@@ -33,10 +39,14 @@
 //! * interface: [`interface_height`] of the slab profile (the rule both
 //!   engines share);
 //! * bed height: the height of the stack of cells, from the floor up, that
-//!   are packed — total φ ≥ φmax (1 − 1e-9) — or, with compression, above the
-//!   gel point φc, where the network carries stress. It is a whole number of
-//!   cells, so it resolves the bed to one cell height;
+//!   are packed — total φ ≥ φmax (1 − 1e-9) — or, with compression, at or
+//!   above the gel point φc, where the network carries stress. It is a whole
+//!   number of cells, and it lags the bed surface by the width of the smeared
+//!   transition above it (a few cells where that surface is a contact
+//!   discontinuity, as above a fan);
 //! * solids volume: `A Δz Σ φ_j` over cells and classes.
+//!
+//! The grid has `numerics.cells` cells over the fill height.
 
 pub mod scalar;
 pub mod system;

@@ -1,6 +1,7 @@
 //! One size class: Kynch's scalar conservation law, optionally with the
 //! degenerate diffusion of a compressible bed, by explicit Godunov finite
-//! volumes with a conservative packing cap.
+//! volumes (MUSCL by default, see [`Reconstruction`]) with a conservative
+//! packing cap.
 //!
 //! Cells are numbered from the floor up; interface `k` (k = 0..=N) lies at
 //! height `k Δz`, between cell `k − 1` below and cell `k` above. Fluxes are
@@ -13,6 +14,34 @@
 //!
 //! Every change of a cell is a flux that another cell loses, so the solids
 //! inventory is kept to rounding whatever the fluxes are.
+//!
+//! # One stage
+//!
+//! 1. Godunov flux at every interior interface between the bottom face of
+//!    the cell above and the top face of the cell below, minus the diffusive
+//!    flux `(A(φ_below) − A(φ_above))/Δz` (cell averages) when the bed is
+//!    compressible.
+//! 2. **Packing cap**, from the floor up: the flux into cell `c` from above
+//!    may not exceed the room left in it plus what leaves it below,
+//!    `(φmax − φ_c) Δz/Δt + F_c`, where `F_c` is already final. The truncated
+//!    flux jumps from `f(φmax⁻) > 0` to 0 at φmax (Richardson–Zaki,
+//!    Vesilind), i.e. it has no finite Lipschitz constant there, and plain
+//!    Godunov lets a cell just below φmax take `Δt f/Δz` more than it has
+//!    room for (the sediment then overshoots φmax and the final height is off
+//!    by an amount that does not shrink with the grid). The cap only lowers
+//!    fluxes, keeps solids back in the cell above, and keeps the telescoping
+//!    sum, so the stage stays conservative; a cell it fills is set to φmax,
+//!    its value in exact arithmetic (a change of an ulp), and the rest of the
+//!    arriving solids pile up above it, which is how the sediment surface
+//!    rises.
+//! 3. Update; values within rounding outside `[0, φmax]` are put back on the
+//!    bound (a change of a few ulps).
+//!
+//! Positivity: with `λ m L ≤ 1` (`m` = 2 for linear faces), each stage is a
+//! monotone Godunov step on face values that lie between neighbouring
+//! averages, and the cap only lowers non-negative fluxes into cells that it
+//! fills; the diffusion term keeps its share of the same bound through
+//! `2 Δt max a/Δz²`.
 
 use crate::physics::compression::{self, IntegratedDiffusion, PowerLawStress};
 use crate::physics::hindered::HinderedLaw;
@@ -407,25 +436,7 @@ impl ScalarSolver {
         }
     }
 
-    /// One forward-Euler stage `out = state + Δt L(state)`.
-    ///
-    /// 1. Godunov flux at every interior interface between the bottom face
-    ///    of the cell above and the top face of the cell below, minus the
-    ///    diffusive flux `(A(φ_below) − A(φ_above))/Δz` (cell averages) when
-    ///    the bed is compressible.
-    /// 2. **Packing cap**, from the floor up: the flux into cell `c` from
-    ///    above may not exceed the room left in it plus what leaves it below,
-    ///    `(φmax − φ_c) Δz/Δt + F_c`, where `F_c` is already final. The
-    ///    truncated flux jumps from `f(φmax⁻) > 0` to 0 at φmax (Richardson–
-    ///    Zaki, Vesilind), i.e. it has no finite Lipschitz constant there, and
-    ///    plain Godunov lets a cell just below φmax take `Δt f/Δz` more than it
-    ///    has room for. The cap only lowers fluxes, keeps back solids in the
-    ///    cell above, and keeps the telescoping sum, so the stage stays
-    ///    conservative; cells it fills are set to φmax, their value in exact
-    ///    arithmetic (a change of an ulp), and the rest of the arriving
-    ///    solids pile up above them, which is how the sediment surface rises.
-    /// 3. Update; values within rounding outside `[0, φmax]` are put back on
-    ///    the bound (a change of a few ulps).
+    /// One forward-Euler stage `out = state + Δt L(state)` (module docs).
     fn euler(&mut self, state: &[f64], dt: f64, out: &mut [f64]) {
         let n = state.len();
         self.reconstruct(state);

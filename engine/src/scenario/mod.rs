@@ -37,8 +37,30 @@ pub fn load(path: &Path) -> Result<Setup, ScenarioError> {
     parse_str(&text, path)
 }
 
+/// The format version this build reads.
+pub const FORMAT: u64 = 1;
+
 /// Parse the YAML structure only (step 1).
 pub fn parse_spec(text: &str, path: &Path) -> Result<ScenarioSpec, ScenarioError> {
+    // A file of another format version would fail on keys it does not share
+    // with format 1; say what is really wrong first.
+    if let Ok(serde_yaml::Value::Mapping(m)) = serde_yaml::from_str::<serde_yaml::Value>(text)
+        && let Some(v) = m.get("format")
+        && v.as_u64() != Some(FORMAT)
+    {
+        let (line, column) = locate::Locations::scan(text).find("format").unzip();
+        return Err(ScenarioError::new(
+            path,
+            ErrorKind::Invalid,
+            vec![Problem {
+                key: "format".into(),
+                message: format!("scenario format {} is not known to this build", render(v)),
+                hint: Some(format!("this build of turbid reads `format: {FORMAT}`")),
+                line,
+                column,
+            }],
+        ));
+    }
     let de = serde_yaml::Deserializer::from_str(text);
     serde_yaml::with::singleton_map_recursive::deserialize(de).map_err(|e| {
         let (kind, problem) = error::from_yaml_error(&e);
@@ -59,4 +81,8 @@ pub fn json_schema() -> serde_json::Value {
         .into_generator()
         .into_root_schema_for::<ScenarioSpec>();
     serde_json::to_value(schema).expect("a schema is plain JSON")
+}
+
+fn render(v: &serde_yaml::Value) -> String {
+    serde_yaml::to_string(v).map_or_else(|_| "?".into(), |t| t.trim().to_string())
 }
