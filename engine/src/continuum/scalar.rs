@@ -37,11 +37,11 @@
 //! 3. Update; values within rounding outside `[0, φmax]` are put back on the
 //!    bound (a change of a few ulps).
 //!
-//! Positivity: with `λ m L ≤ 1` (`m` = 2 for linear faces), each stage is a
-//! monotone Godunov step on face values that lie between neighbouring
-//! averages, and the cap only lowers non-negative fluxes into cells that it
-//! fills; the diffusion term keeps its share of the same bound through
-//! `2 Δt max a/Δz²`.
+//! Positivity: with `Δt (m L/Δz + 2 max a/Δz²) ≤ 1` (`m` = 2 for linear
+//! faces), each stage is a monotone Godunov step on face values that lie
+//! between neighbouring averages, plus a monotone three-point diffusion step
+//! in `A`, which share that bound. The cap lowers the flux out of the cell
+//! above (which only raises it) and leaves the cell below exactly at φmax.
 
 use crate::physics::compression::{self, IntegratedDiffusion, PowerLawStress};
 use crate::physics::hindered::HinderedLaw;
