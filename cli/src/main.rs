@@ -2,10 +2,14 @@
 //!
 //! Exit codes: 0 success, 2 invalid input (the message says where and why),
 //! 1 internal failure (a bug: please report it, or an output that could not be
-//! written), 3 interrupted by SIGINT/SIGTERM (partial results were written).
+//! written), 3 interrupted by SIGINT/SIGTERM (partial results were written),
+//! 4 (sweeps) some runs failed or are not complete.
 
+mod atomic;
 mod run;
+mod run_summary;
 mod summary;
+mod sweep;
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -49,12 +53,83 @@ enum Command {
     },
     /// Print the JSON Schema of the scenario format (for editors and validators).
     Schema,
+    /// Parameter sweeps: expand a sweep file into runs, run them here or as a Slurm job array, gather the results.
+    Sweep {
+        #[command(subcommand)]
+        command: SweepCommand,
+    },
+}
+
+#[derive(Subcommand)]
+enum SweepCommand {
+    /// Write every run's scenario file, check them all, and list the runs.
+    Expand {
+        /// Sweep file (YAML).
+        file: PathBuf,
+    },
+    /// Run the sweep on this machine (skips runs already complete), then gather the table.
+    Run {
+        /// Sweep file (YAML).
+        file: PathBuf,
+        /// Runs at a time (default: cores / threads per run).
+        #[arg(short, long)]
+        jobs: Option<usize>,
+        /// Threads per run (default: `threads` of the sweep file, else 1).
+        #[arg(long)]
+        threads: Option<usize>,
+        /// How to show progress.
+        #[arg(long, value_enum, default_value = "auto")]
+        progress: run::ProgressMode,
+        /// Seconds between plain progress lines when not on a terminal.
+        #[arg(long, default_value_t = 30.0)]
+        log_every: f64,
+    },
+    /// Write a Slurm job-array script for the runs; `--submit` hands it to sbatch.
+    Slurm {
+        /// Sweep file (YAML).
+        file: PathBuf,
+        /// CPUs per array task = threads per run (default: `slurm.cpus_per_task`, else the sweep's threads).
+        #[arg(long)]
+        cpus_per_task: Option<u32>,
+        /// Memory per task, e.g. "2 GB" (default: `slurm.memory`, else the cluster's default).
+        #[arg(long)]
+        memory: Option<String>,
+        /// Time limit per task, e.g. "2 h" (default: `slurm.time_limit`, else the partition's).
+        #[arg(long)]
+        time_limit: Option<String>,
+        /// Partition (default: `slurm.partition`, else the cluster's default).
+        #[arg(long)]
+        partition: Option<String>,
+        /// Account to charge (default: `slurm.account`).
+        #[arg(long)]
+        account: Option<String>,
+        /// Most tasks running at once, the `%N` throttle (default: `slurm.max_running`, else no limit).
+        #[arg(long)]
+        max_running: Option<u32>,
+        /// Largest array index the cluster accepts (its MaxArraySize − 1); larger sweeps become several arrays.
+        #[arg(long, default_value_t = 1000)]
+        max_array_index: u32,
+        /// Submit with sbatch (only the runs not yet complete).
+        #[arg(long)]
+        submit: bool,
+        /// After submitting, wait for the jobs to end and gather the table.
+        #[arg(long, requires = "submit")]
+        wait: bool,
+        /// turbid binary the tasks run (default: this one).
+        #[arg(long)]
+        turbid: Option<PathBuf>,
+    },
+    /// Collect the results of all runs into summary.csv and summary.h5.
+    Gather {
+        /// Sweep file (YAML).
+        file: PathBuf,
+    },
 }
 
 const EXIT_INVALID_INPUT: u8 = 2;
 const EXIT_INTERNAL: u8 = 1;
 /// Interrupted by SIGINT or SIGTERM; the partial results were written.
-const EXIT_INTERRUPTED: u8 = 3;
+pub(crate) const EXIT_INTERRUPTED: u8 = 3;
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -144,6 +219,71 @@ fn run(cli: Cli) -> ExitCode {
                 Err(run::RunError::Failed(e)) => {
                     eprintln!("error: {e}");
                     ExitCode::from(EXIT_INTERNAL)
+                }
+            }
+        }
+        Command::Sweep { command } => {
+            let result = match command {
+                SweepCommand::Expand { file } => sweep::expand(&file).map(|()| 0),
+                SweepCommand::Run {
+                    file,
+                    jobs,
+                    threads,
+                    progress,
+                    log_every,
+                } => {
+                    if !(log_every.is_finite() && log_every > 0.0) {
+                        eprintln!("error: --log-every must be a positive number of seconds");
+                        return ExitCode::from(EXIT_INVALID_INPUT);
+                    }
+                    if threads == Some(0) {
+                        eprintln!("error: --threads must be at least 1");
+                        return ExitCode::from(EXIT_INVALID_INPUT);
+                    }
+                    sweep::pool::run(
+                        &file,
+                        &sweep::pool::LocalOptions {
+                            jobs,
+                            threads,
+                            progress,
+                            log_every: std::time::Duration::from_secs_f64(log_every),
+                        },
+                    )
+                }
+                SweepCommand::Slurm {
+                    file,
+                    cpus_per_task,
+                    memory,
+                    time_limit,
+                    partition,
+                    account,
+                    max_running,
+                    max_array_index,
+                    submit,
+                    wait,
+                    turbid,
+                } => sweep::slurm::run(
+                    &file,
+                    &sweep::slurm::SlurmOptions {
+                        cpus_per_task,
+                        memory,
+                        time_limit,
+                        partition,
+                        account,
+                        max_running,
+                        max_array_index,
+                        submit,
+                        wait,
+                        turbid,
+                    },
+                ),
+                SweepCommand::Gather { file } => sweep::gather::run(&file),
+            };
+            match result {
+                Ok(code) => ExitCode::from(code),
+                Err(f) => {
+                    eprintln!("{}", f.message);
+                    ExitCode::from(f.code)
                 }
             }
         }

@@ -14,6 +14,8 @@ use turbid_engine::record::{RunRecord, RunStatus};
 use turbid_engine::scenario::Setup;
 use turbid_engine::scenario::resolve::EngineSpec;
 
+use crate::run_summary::{RunSummary, summary_path};
+
 /// How progress is shown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum ProgressMode {
@@ -135,7 +137,30 @@ pub enum RunError {
     Failed(String),
 }
 
+/// Run, and when it fails leave a summary saying why beside the intended
+/// result file (a sweep reports it and redoes the run next time).
 pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, RunError> {
+    let result = run_inner(file, text, setup, opts);
+    if let Err(RunError::Unsupported(e) | RunError::Failed(e)) = &result {
+        let out = opts
+            .output
+            .clone()
+            .unwrap_or_else(|| setup.output.file.clone());
+        let mut failed = RunSummary::failed(file, text, e.clone());
+        failed.threads = opts.threads;
+        failed.end_time_s = setup.run.end_time;
+        // Best effort: the error itself is reported on stderr either way.
+        let _ = failed.write(&summary_path(&out));
+    }
+    result
+}
+
+fn run_inner(
+    file: &Path,
+    text: &str,
+    setup: &Setup,
+    opts: &RunOptions,
+) -> Result<Outcome, RunError> {
     let out = opts
         .output
         .clone()
@@ -185,6 +210,18 @@ pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<
     progress.finish();
     output::write_netcdf(&record, &out).map_err(|e| RunError::Failed(e.to_string()))?;
     output::write_settling_csv(&record, &csv).map_err(|e| RunError::Failed(e.to_string()))?;
+    // Last, so that a summary saying `complete` means both files above are in place.
+    let summary_file = summary_path(&out);
+    let mut machine = RunSummary::from_record(&record, file, text);
+    machine.output = Some(out.display().to_string());
+    machine.output_bytes = std::fs::metadata(&out).ok().map(|m| m.len());
+    machine.settling_csv = Some(csv.display().to_string());
+    machine.threads = opts.threads;
+    machine.end_time_s = setup.run.end_time;
+    machine.wall_time_s = wall.elapsed().as_secs_f64();
+    machine
+        .write(&summary_file)
+        .map_err(|e| RunError::Failed(format!("cannot write {}: {e}", summary_file.display())))?;
     summary(
         &record,
         &out,
@@ -229,4 +266,5 @@ fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64
         record.frames.len()
     );
     println!("  settling curve     {}", csv.display());
+    println!("  run summary        {}", summary_path(out).display());
 }
