@@ -10,7 +10,9 @@
 # Loopback only: the daemons listen on 127.0.0.1 (ports 6817/6818), no
 # accounting database, no cgroups, no systemd. State, logs and PID files live
 # in $TURBID_SLURM_DIR (default /tmp/turbid-slurm); `start` wipes the state so
-# job ids restart at 1. Needs root (apt-get, munge and Slurm run as root here).
+# job ids restart at 1, and writes /etc/slurm/slurm.conf. `stop` also stops
+# munged if `start` started it. Needs root (apt-get; the daemons run as root,
+# munged as user munge).
 set -euo pipefail
 
 DIR="${TURBID_SLURM_DIR:-/tmp/turbid-slurm}"
@@ -92,6 +94,7 @@ start_munge() {
         return 0
     fi
     setpriv --reuid=munge --regid=munge --init-groups /usr/sbin/munged
+    touch "$DIR/run/munged.ours" # so that `stop` stops only a munged it started
     wait_for 10 sh -c 'munge -n 2>/dev/null | unmunge >/dev/null 2>&1' ||
         die "munged did not come up (see /var/log/munge/munged.log)"
 }
@@ -164,8 +167,8 @@ start() {
         ready && return 0
         die "daemons are running but the node is not ready (sinfo: $(sinfo -h 2>&1 | head -n 1))"
     fi
-    start_munge
     configure
+    start_munge
     slurmctld
     wait_for 20 pid_of "$DIR/run/slurmctld.pid" slurmctld >/dev/null ||
         die "slurmctld did not start (see $DIR/log/slurmctld.log)"
@@ -191,6 +194,10 @@ stop() {
             [ -d "/proc/$pid" ] && log "$name ($pid) still running after 10 s"
         fi
     done
+    if [ -e "$DIR/run/munged.ours" ] && pid="$(pid_of /run/munge/munged.pid munged)"; then
+        kill -TERM "$pid"
+        rm -f "$DIR/run/munged.ours"
+    fi
     log "stopped"
 }
 
