@@ -108,6 +108,7 @@ fn a_sweep_as_a_slurm_job_array_gathers_the_same_table_as_the_local_pool() {
         "#SBATCH --cpus-per-task=2",
         "#SBATCH --mem=500M",
         "#SBATCH --time=0-00:10:00",
+        "#SBATCH --signal=B:TERM@120",
     ] {
         assert!(script.contains(line), "no `{line}` in\n{script}");
     }

@@ -98,6 +98,34 @@ fn expansion_is_numbered_deterministic_and_every_run_stands_alone() {
 }
 
 #[test]
+fn the_example_sweeps_expand_into_valid_runs() {
+    let repo = Path::new(env!("CARGO_MANIFEST_DIR")).parent().unwrap();
+    let dir = temp_dir("sweep-examples");
+    // Copied, so that expanding writes nothing into the repository.
+    for e in std::fs::read_dir(repo.join("scenarios")).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_some_and(|x| x == "yaml") {
+            std::fs::copy(&p, dir.join(p.file_name().unwrap())).unwrap();
+        }
+    }
+    let mut n = 0;
+    for e in std::fs::read_dir(repo.join("scenarios/sweeps")).unwrap() {
+        let p = e.unwrap().path();
+        if p.extension().is_none_or(|x| x != "yaml") {
+            continue;
+        }
+        let copy = dir.join("sweeps").join(p.file_name().unwrap());
+        write(&copy, &read(&p));
+        let o = run_in(&dir, &["sweep", "expand", copy.to_str().unwrap()]);
+        assert!(o.status.success(), "{}: {}", p.display(), text(&o.stderr));
+        assert!(text(&o.stdout).contains("all valid"), "{}", text(&o.stdout));
+        n += 1;
+    }
+    assert!(n >= 1, "no example sweeps in scenarios/sweeps");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
 fn expansion_errors_name_the_sweep_file_the_run_and_the_key() {
     let dir = temp_dir("sweep-errors");
     write(&dir.join("base.yaml"), &base(3000));

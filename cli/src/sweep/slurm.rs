@@ -60,6 +60,8 @@ struct Resources {
     cpus: u32,
     mem_mib: Option<u64>,
     time: Option<String>,
+    /// Seconds of the time limit.
+    time_s: Option<f64>,
     partition: Option<String>,
     account: Option<String>,
     throttle: Option<u32>,
@@ -83,18 +85,22 @@ fn memory_mib(text: &str) -> Result<u64, String> {
     Ok((x * scale).ceil() as u64)
 }
 
-/// `"90 min"` → `"0-01:30:00"` (whole minutes, rounded up).
-fn time_limit(text: &str) -> Result<String, String> {
+/// Seconds before the time limit at which Slurm is asked to send SIGTERM
+/// (`--signal=B:TERM@…`), so a run has time to save its results; only for
+/// limits of at least `WARN_MIN_LIMIT` s.
+const WARN_BEFORE: u64 = 120;
+const WARN_MIN_LIMIT: f64 = 600.0;
+
+/// `"90 min"` → `"0-01:30:00"` (whole minutes, rounded up) and the seconds.
+fn time_limit(text: &str) -> Result<(String, f64), String> {
     let s = units::parse(text, Kind::Time)?;
     if s <= 0.0 {
         return Err("the time limit must be positive".into());
     }
     let min = (s / 60.0).ceil() as u64;
-    Ok(format!(
-        "{}-{:02}:{:02}:00",
-        min / 1440,
-        min % 1440 / 60,
-        min % 60
+    Ok((
+        format!("{}-{:02}:{:02}:00", min / 1440, min % 1440 / 60, min % 60),
+        min as f64 * 60.0,
     ))
 }
 
@@ -120,7 +126,7 @@ fn resources(sweep: &Sweep, o: &SlurmOptions) -> Result<Resources, Failure> {
         .map(|m| memory_mib(m))
         .transpose()
         .map_err(|m| bad("memory", m))?;
-    let time = o
+    let limit = o
         .time_limit
         .as_ref()
         .or(spec.time_limit.as_ref())
@@ -131,10 +137,12 @@ fn resources(sweep: &Sweep, o: &SlurmOptions) -> Result<Resources, Failure> {
     if throttle == Some(0) {
         return Err(bad("max_running", "must be at least 1".into()));
     }
+    let (time, time_s) = limit.unzip();
     Ok(Resources {
         cpus,
         mem_mib,
         time,
+        time_s,
         partition: o.partition.clone().or(spec.partition.clone()),
         account: o.account.clone().or(spec.account.clone()),
         throttle,
@@ -215,6 +223,10 @@ fn script(sweep: &Sweep, res: &Resources, turbid: &Path, max_index: u32) -> Stri
     if let Some(t) = &res.time {
         let _ = writeln!(s, "#SBATCH --time={t}");
     }
+    if res.time_s.is_some_and(|t| t >= WARN_MIN_LIMIT) {
+        // SIGTERM to the batch shell, which is turbid itself (exec below).
+        let _ = writeln!(s, "#SBATCH --signal=B:TERM@{WARN_BEFORE}");
+    }
     if let Some(p) = &res.partition {
         let _ = writeln!(s, "#SBATCH --partition={p}");
     }
@@ -243,7 +255,7 @@ fn script(sweep: &Sweep, res: &Resources, turbid: &Path, max_index: u32) -> Stri
     );
     let _ = writeln!(
         s,
-        "# SIGTERM before the time limit reaches turbid, which saves partial results and exits 3."
+        "# SIGTERM (at or before the time limit) reaches turbid, which saves partial results and exits 3."
     );
     let _ = writeln!(
         s,
@@ -412,9 +424,12 @@ mod tests {
         assert_eq!(memory_mib("2 GB"), Ok(2048));
         assert_eq!(memory_mib("500 MB"), Ok(500));
         assert!(memory_mib("2").unwrap_err().contains("needs a unit"));
-        assert_eq!(time_limit("90 min").unwrap(), "0-01:30:00");
-        assert_eq!(time_limit("2 d").unwrap(), "2-00:00:00");
-        assert_eq!(time_limit("61 s").unwrap(), "0-00:02:00");
+        assert_eq!(time_limit("90 min").unwrap().0, "0-01:30:00");
+        assert_eq!(time_limit("2 d").unwrap().0, "2-00:00:00");
+        assert_eq!(
+            time_limit("61 s").unwrap(),
+            ("0-00:02:00".to_string(), 120.0)
+        );
         assert!(time_limit("2").is_err());
     }
 }
