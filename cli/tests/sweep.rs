@@ -289,6 +289,17 @@ fn local_pool_runs_a_sweep_reports_a_failed_run_and_resumes() {
         .collect();
     let bed_csv: Vec<f64> = rows.iter().map(|r| r[5].parse().unwrap()).collect();
     assert_eq!(bed, bed_csv);
+
+    // A changed sweep: runs 3 and 4 get another loading, so their old
+    // results are stale and only they run again.
+    write(&dir.join("grid.yaml"), &GRID.replace("15 vol%", "12 vol%"));
+    let o = run_in(&dir, &["sweep", "run", "grid.yaml", "--jobs", "2"]);
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(0), "{err}");
+    assert!(err.contains("2 already complete, 2 to run"), "{err}");
+    assert!(err.contains("run 3: redoing it (stale"), "{err}");
+    let (_, rows) = table(&read(&dir.join("out/grid/summary.csv")));
+    assert_eq!(rows[2][2], "0.12");
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -396,5 +407,70 @@ fn a_sweep_killed_midway_and_restarted_redoes_only_the_unfinished_runs() {
             "run {i}"
         );
     }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn sigterm_stops_a_sweep_whose_runs_save_partial_results() {
+    let dir = temp_dir("sweep-term");
+    // Long enough runs (about 10 s each here) to be caught in flight.
+    write(&dir.join("base.yaml"), &base(40000));
+    write(
+        &dir.join("seeds.yaml"),
+        "sweep: 1\nbase: base.yaml\nlist:\n  run.seed: [1, 2, 3]\n",
+    );
+    let pool = turbid()
+        .current_dir(&dir)
+        .args([
+            "sweep",
+            "run",
+            "seeds.yaml",
+            "--jobs",
+            "2",
+            "--progress",
+            "log",
+        ])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Both first runs have started when their logs name the engine.
+    let log = |i: usize| dir.join(format!("out/seeds/logs/run-000{i}.log"));
+    let t0 = Instant::now();
+    while !(1..=2)
+        .all(|i| std::fs::read_to_string(log(i)).is_ok_and(|t| t.contains("particle engine")))
+    {
+        assert!(t0.elapsed() < Duration::from_secs(60), "runs did not start");
+        std::thread::sleep(Duration::from_millis(50));
+    }
+    // A second pool on the same sweep is refused while this one works.
+    let second = run_in(&dir, &["sweep", "run", "seeds.yaml"]);
+    assert_eq!(second.status.code(), Some(2));
+    assert!(
+        text(&second.stderr).contains("another `turbid sweep run`"),
+        "{}",
+        text(&second.stderr)
+    );
+
+    std::thread::sleep(Duration::from_millis(500));
+    let status = std::process::Command::new("kill")
+        .args(["-TERM", &pool.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(status.success());
+    let out = pool.wait_with_output().unwrap();
+    let (stdout, stderr) = (text(&out.stdout), text(&out.stderr));
+    assert_eq!(out.status.code(), Some(3), "{stdout}{stderr}");
+    assert!(
+        stdout.contains("2 interrupted, 1 not started"),
+        "{stdout}{stderr}"
+    );
+    let (_, rows) = table(&read(&dir.join("out/seeds/summary.csv")));
+    let status: Vec<&str> = rows.iter().map(|r| r[1].as_str()).collect();
+    assert_eq!(
+        status,
+        ["partial", "partial", "missing"],
+        "{stdout}{stderr}"
+    );
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -66,6 +66,10 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
         ))
     })?;
 
+    // One pool per sweep at a time: two would run the same runs into the same files.
+    let lock_path = sweep.out_dir.join("sweep.lock");
+    let _lock = lock(&lock_path)?;
+
     let mut pending = VecDeque::new();
     let mut skipped = 0;
     for r in &sweep.runs {
@@ -118,7 +122,7 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
                     };
                     let run = by_number[&number];
                     let started = Instant::now();
-                    let outcome = run_one(exe, run, threads, running);
+                    let outcome = run_one(exe, run, threads, running, stop);
                     let _ = tx.send(Event {
                         number,
                         outcome,
@@ -196,6 +200,28 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
     })
 }
 
+/// An exclusive lock on `path`, held while the returned file is open (the
+/// kernel drops it when the process ends, however it ends).
+fn lock(path: &std::path::Path) -> Result<std::fs::File, Failure> {
+    use std::os::fd::AsRawFd;
+    let f = OpenOptions::new()
+        .create(true)
+        .truncate(false)
+        .write(true)
+        .open(path)
+        .map_err(|e| Failure::internal(format!("error: cannot open {}: {e}", path.display())))?;
+    // SAFETY: flock(2) on a descriptor we own.
+    if unsafe { libc::flock(f.as_raw_fd(), libc::LOCK_EX | libc::LOCK_NB) } != 0 {
+        return Err(Failure::invalid(format!(
+            "error: another `turbid sweep run` is working on {} (lock {})",
+            path.parent()
+                .map_or(String::new(), |p| p.display().to_string()),
+            path.display()
+        )));
+    }
+    Ok(f)
+}
+
 /// Run one scenario as `turbid run` in a child process; its stdout and
 /// stderr go to the run's log (appended, so earlier attempts stay readable).
 fn run_one(
@@ -203,6 +229,7 @@ fn run_one(
     run: &Run,
     threads: usize,
     running: &Mutex<HashMap<usize, u32>>,
+    stop: &AtomicBool,
 ) -> Outcome {
     let log = match OpenOptions::new().create(true).append(true).open(&run.log) {
         Ok(f) => f,
@@ -249,6 +276,13 @@ fn run_one(
         .lock()
         .expect("running")
         .insert(run.number, child.id());
+    // A stop that came between taking this run and starting it.
+    if stop.load(Ordering::SeqCst) {
+        // SAFETY: kill(2) on our own child, not yet waited for.
+        unsafe {
+            libc::kill(child.id() as libc::pid_t, libc::SIGTERM);
+        }
+    }
     let status = child.wait();
     running.lock().expect("running").remove(&run.number);
     let code = match status {
