@@ -363,7 +363,11 @@ pub fn run(file: &Path, o: &SlurmOptions) -> Result<u8, Failure> {
             })?;
             // `--parsable` prints `jobid` or `jobid;cluster`.
             let id = id.split(';').next().unwrap_or("").trim().to_string();
-            println!("submitted job array {id} ({} runs)", idx.len());
+            let n = idx.len();
+            println!(
+                "submitted job array {id} ({n} run{})",
+                if n == 1 { "" } else { "s" }
+            );
             jobs.push(id);
         }
     }
