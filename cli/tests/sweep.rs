@@ -169,6 +169,15 @@ fn expansion_errors_name_the_sweep_file_the_run_and_the_key() {
             "grid:\n  run.seed: [1]\nlist:\n  run.seed: [1]\n",
             vec!["exactly one of `grid`"],
         ),
+        (
+            // A varied value that makes another key wrong: named by the run.
+            "list:\n  run.seed: [1, 2]\n  run.end_time: [\"2 min\", \"1 s\"]\n",
+            vec![
+                "bad.yaml: run 2 (run.seed = 2, run.end_time = \"1 s\"): ",
+                "run-0002.yaml:",
+                "`run.output_interval`: the output interval is longer than the run",
+            ],
+        ),
     ];
     for (vary, expected) in cases {
         let sweep = format!("sweep: 1\nbase: base.yaml\n# varied:\n{vary}");
@@ -183,6 +192,27 @@ fn expansion_errors_name_the_sweep_file_the_run_and_the_key() {
         // Nothing ran.
         assert!(!dir.join("out/bad/logs").exists(), "{err}");
     }
+    // A problem of the base scenario itself is reported once, at the base.
+    write(
+        &dir.join("broken.yaml"),
+        &base(3000).replace("column:", "colum:"),
+    );
+    write(
+        &dir.join("bad.yaml"),
+        "sweep: 1\nbase: broken.yaml\ngrid:\n  run.seed: [1, 2, 3]\n",
+    );
+    let o = run_in(&dir, &["sweep", "expand", "bad.yaml"]);
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    // Line 10 holds the misspelt `colum:`.
+    assert!(err.contains("broken.yaml:10:"), "{err}");
+    assert!(err.contains("`vessel`: unknown variant `colum`"), "{err}");
+    assert!(
+        err.contains("in the base scenario of bad.yaml, so in every run"),
+        "{err}"
+    );
+    assert!(err.contains("did you mean `column`?"), "{err}");
+    assert_eq!(err.matches("error:").count(), 1, "{err}");
     std::fs::remove_dir_all(&dir).ok();
 }
 

@@ -399,6 +399,8 @@ impl Sweep {
             .map_or(String::new(), |s| s.to_string_lossy().into_owned());
         let mut runs = Vec::with_capacity(n);
         let mut problems = Vec::new();
+        type Shared = ((String, String), Vec<usize>, scenario::Problem);
+        let mut shared: Vec<Shared> = Vec::new();
         for (i, values) in table.into_iter().enumerate() {
             let number = i + 1;
             let id = format!("run-{number:0width$}");
@@ -440,20 +442,14 @@ impl Sweep {
                             p.message
                         ),
                         None => {
-                            let place = match (p.line, p.column) {
-                                (Some(l), Some(c)) => format!("{}:{l}:{c}", scenario.display()),
-                                _ => scenario.display().to_string(),
-                            };
-                            let key = if p.key.is_empty() {
-                                String::new()
-                            } else {
-                                format!("`{}`: ", p.key)
-                            };
-                            format!(
-                                "error: {}: run {number} ({assignments}): {place}: {key}{}",
-                                file.display(),
-                                p.message
-                            )
+                            // Not the doing of a varied value: the same problem
+                            // usually sits in the base scenario; reported once below.
+                            let sig = (p.key.clone(), p.message.clone());
+                            match shared.iter_mut().find(|(s, ..)| *s == sig) {
+                                Some((_, runs, _)) => runs.push(number),
+                                None => shared.push((sig, vec![number], p.clone())),
+                            }
+                            continue;
                         }
                     };
                     if let Some(h) = &p.hint {
@@ -474,7 +470,56 @@ impl Sweep {
                 hash,
             });
         }
+        let base_locs = Locations::scan(&base_text);
+        for ((key, message), in_runs, p) in shared {
+            let keyed = if key.is_empty() {
+                String::new()
+            } else {
+                format!("`{key}`: ")
+            };
+            let mut m = if in_runs.len() == n && !key.is_empty() {
+                // In every run: point at the base scenario.
+                let place = match base_locs.find(&key) {
+                    Some((l, c)) => format!("{}:{l}:{c}", base_file.display()),
+                    None => base_file.display().to_string(),
+                };
+                format!(
+                    "error: {place}: {keyed}{message} (in the base scenario of {}, so in every run)",
+                    file.display()
+                )
+            } else {
+                let first = &runs[in_runs[0] - 1];
+                let place = match (p.line, p.column) {
+                    (Some(l), Some(c)) => format!("{}:{l}:{c}", first.scenario.display()),
+                    _ => first.scenario.display().to_string(),
+                };
+                let list: Vec<String> = in_runs.iter().take(10).map(|r| r.to_string()).collect();
+                let more = if in_runs.len() > 10 { ", …" } else { "" };
+                let which = if in_runs.len() == 1 {
+                    format!(
+                        "run {} ({})",
+                        in_runs[0],
+                        assignments(&params, &first.values)
+                    )
+                } else {
+                    format!("runs {}{more} ({} of {n})", list.join(", "), in_runs.len())
+                };
+                format!(
+                    "error: {}: {which}: {place}: {keyed}{message}",
+                    file.display()
+                )
+            };
+            if let Some(h) = &p.hint {
+                let _ = write!(m, "\n  hint: {h}");
+            }
+            problems.push(m);
+        }
         if !problems.is_empty() {
+            // Written all the same, so the runs that were refused can be read.
+            let written = runs
+                .iter()
+                .all(|r| crate::atomic::write_if_changed(&r.scenario, r.text.as_bytes()).is_ok());
+            let problems_count = problems.len();
             const SHOWN: usize = 20;
             let mut m = problems
                 .iter()
@@ -487,11 +532,17 @@ impl Sweep {
             }
             let _ = write!(
                 m,
-                "\n{}: {} problem{} in the expanded runs; nothing was run",
+                "\n{}: {problems_count} problem{} in the expanded runs; nothing was run",
                 file.display(),
-                problems.len(),
-                if problems.len() == 1 { "" } else { "s" }
+                if problems_count == 1 { "" } else { "s" }
             );
+            if written {
+                let _ = write!(
+                    m,
+                    " (the expanded runs are in {} for a look)",
+                    out_dir.join("runs").display()
+                );
+            }
             return Err(Failure::invalid(m));
         }
         Ok(Sweep {
