@@ -163,8 +163,10 @@ start() {
     install
     if pid_of "$DIR/run/slurmctld.pid" slurmctld >/dev/null ||
         pid_of "$DIR/run/slurmd.pid" slurmd >/dev/null; then
-        log "already running; stop it first"
-        ready && return 0
+        if ready; then
+            log "already running and ready"
+            return 0
+        fi
         die "daemons are running but the node is not ready (sinfo: $(sinfo -h 2>&1 | head -n 1))"
     fi
     configure

@@ -50,7 +50,6 @@ const RUN_INTERRUPTED: i32 = 3;
 
 pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
     let sweep = Sweep::load(file)?;
-    sweep.write_runs()?;
     let threads = sweep.threads(opts.threads);
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
     let jobs = opts.jobs.unwrap_or((cores / threads).max(1));
@@ -69,6 +68,7 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
     // One pool per sweep at a time: two would run the same runs into the same files.
     let lock_path = sweep.out_dir.join("sweep.lock");
     let _lock = lock(&lock_path)?;
+    sweep.write_runs()?;
 
     let mut pending = VecDeque::new();
     let mut skipped = 0;
