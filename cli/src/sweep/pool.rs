@@ -354,8 +354,9 @@ impl Report {
 
     fn event(&self, line: &str) {
         match &self.bar {
-            Some(pb) => pb.println(line),
-            None => eprintln!("{line}"),
+            // A bar forced where it cannot be drawn must not swallow the lines.
+            Some(pb) if !pb.is_hidden() => pb.println(line),
+            _ => eprintln!("{line}"),
         }
     }
 
