@@ -943,6 +943,12 @@ mod tests {
             e.contains("b.csv:4:1") && e.contains("does not come after"),
             "{e}"
         );
+        // Comment lines count in the line numbers.
+        let commented = "# invented\n# second comment\ntime_s,height_m\n0,0.5\n10,x\n";
+        let e = SettlingCurve::from_csv_reader(commented.as_bytes(), "c.csv", 0.5, 100.0)
+            .unwrap_err()
+            .to_string();
+        assert!(e.starts_with("c.csv:5:2: height `x`"), "{e}");
         let high = "time_s,height_cm\n0,50\n10,70\n20,40\n";
         let e = SettlingCurve::from_csv_reader(high.as_bytes(), "h.csv", 0.5, 100.0)
             .unwrap_err()

@@ -9,15 +9,35 @@
 //! alike), with residuals r = h_model − h_measured over every reading after
 //! t = 0 of every curve.
 //!
+//! # Start and steps
+//!
+//! The starting point comes from the data: the Kynch construction of every
+//! curve gives (C, v) pairs, and a straight line of ln v against ln(1 − φ)
+//! (Richardson–Zaki) or against C (Vesilind; Takács in its hindered zone)
+//! gives the two leading parameters ([`FitOptions::initial`] overrides it).
+//! The Jacobian is taken by central differences with a 1 % step on ln p:
+//! the model's interface moves in ripples of a fraction of a cell as the
+//! shock crosses the grid, so its response to a tiny change is not the
+//! slope of the trend; a 1 % change moves the curve by about a cell and
+//! averages them out. (With 0.1 % forward steps a Vesilind fit stopped where
+//! no step lowered the cost, with a sum of squares 4 % above the one at the
+//! truth; see tests/analysis_fit.rs.)
+//!
 //! # Uncertainty
 //!
 //! With N readings, p parameters and s² = Σr²/(N − p), the covariance of the
-//! log-parameters is s²(JᵀJ)⁻¹ at the optimum (J from forward differences),
-//! the standard error of a parameter is its value times that of its
-//! logarithm (first order), and the interval is value ± t_{(1+c)/2, N−p}·se
-//! with the Student t quantile of [`super::stats`] (c = 0.95 by default).
-//! These are the usual linearised intervals: they assume independent errors
-//! of equal variance and a model that is close to linear over the interval.
+//! log-parameters is s²(JᵀJ)⁻¹ at the optimum, the standard error of a
+//! parameter is its value times that of its logarithm (first order), and
+//! the interval is value ± t_{(1+c)/2, N−p}·se with the Student t quantile of
+//! [`super::stats`] (c = 0.95 by default). These are the usual linearised
+//! intervals: they assume independent errors of equal variance and a model
+//! close to linear over the interval. **They cover the reading noise, not
+//! the model's own grid error**: the engine's curve lies within about one
+//! cell of the exact one, and where two parameters are strongly correlated
+//! (Vesilind v0 and k from one test: v0 is an extrapolation to C = 0) that
+//! shifts the estimates by more than the intervals (−3.6 % in v0, −2.4 % in k
+//! at 150 cells in tests/analysis_fit.rs, about a third at 600 cells). Raise
+//! `cells` to see whether an estimate moves.
 //!
 //! # How many readings
 //!
@@ -31,11 +51,11 @@
 //!
 //! # Grid
 //!
-//! The default grid has 150 cells over the fill height (each run takes
-//! milliseconds). The engine's settling curve lies within one cell of the
-//! exact Kynch curve (tests/continuum_batch.rs), i.e. H0/150 (3 mm on a
-//! 0.45 m cylinder), about the reading error of a hand-read cylinder test;
-//! raise `cells` for finer readings.
+//! The default grid has 150 cells over the fill height (a run takes tens of
+//! milliseconds; a fit some 40–70 runs per curve). The engine's settling
+//! curve lies within one cell of the exact Kynch curve
+//! (tests/continuum_batch.rs), i.e. H0/150 (2–3 mm on a 0.35–0.45 m
+//! cylinder), about the reading error of a hand-read cylinder test.
 
 use super::curve::{SettlingCurve, Smoothing, kynch};
 use super::lm::{LmOptions, StopReason, inverse, levenberg_marquardt, normal_equations};
@@ -58,10 +78,15 @@ pub enum LawToFit {
     RichardsonZaki,
     /// v = v0 e^(−kC): fits v0 (m/s) and k (m³/kg).
     Vesilind,
-    /// Takács: fits v0 (m/s), r_h and r_p (m³/kg); the cap v0′ (m/s) and the
-    /// non-settleable share f_ns are held at the given values.
+    /// Takács: fits v0 (m/s) and r_h (m³/kg); the cap v0′ (m/s), the
+    /// flocculant-zone r_p (m³/kg) and the non-settleable share f_ns are held
+    /// at the given values. r_p shapes v(C) only below about 2/r_p (well
+    /// under 1 g/L for the usual r_p ≈ 3 L/g), concentrations a batch test
+    /// above them never shows, so a settling curve cannot fix it: with r_p
+    /// free the Jacobian is singular.
     Takacs {
         v0_max: f64,
+        r_flocculant: f64,
         non_settleable_fraction: f64,
     },
 }
@@ -72,11 +97,7 @@ impl LawToFit {
         match self {
             LawToFit::RichardsonZaki => &[("v_inf", "m/s"), ("n", "1")],
             LawToFit::Vesilind => &[("v0", "m/s"), ("k", "m3/kg")],
-            LawToFit::Takacs { .. } => &[
-                ("v0", "m/s"),
-                ("r_hindered", "m3/kg"),
-                ("r_flocculant", "m3/kg"),
-            ],
+            LawToFit::Takacs { .. } => &[("v0", "m/s"), ("r_hindered", "m3/kg")],
         }
     }
 
@@ -355,13 +376,14 @@ fn law_setup(setup: &mut Setup, law: LawToFit, p: &[f64], c0: f64) {
         }
         LawToFit::Takacs {
             v0_max,
+            r_flocculant,
             non_settleable_fraction,
         } => {
             setup.hindered = HinderedChoice::Takacs {
                 v0_max,
                 v0: p[0],
                 r_hindered: p[1],
-                r_flocculant: p[2],
+                r_flocculant,
                 min_concentration: non_settleable_fraction * c0,
             };
         }
@@ -441,7 +463,7 @@ fn line(xs: &[(f64, f64)]) -> Option<(f64, f64)> {
 /// A starting point from the Kynch construction of the curves: the (C, v)
 /// pairs it gives, on a straight line of ln v against ln(1 − φ)
 /// (Richardson–Zaki: slope n) or against C (Vesilind: slope −k; Takács in
-/// its hindered zone: slope −r_h, with r_p = 5 r_h). When the pairs do not
+/// its hindered zone: slope −r_h). When the pairs do not
 /// fix a slope (one concentration only), a typical exponent (4.65, creeping
 /// flow, RZ 1954 eq. 33) or kC0 = 1.5 is assumed.
 fn initial_guess(law: LawToFit, curves: &[SettlingCurve], rho_s: f64) -> Vec<f64> {
@@ -481,7 +503,7 @@ fn initial_guess(law: LawToFit, curves: &[SettlingCurve], rho_s: f64) -> Vec<f64
                 .map(|(_, b)| -b)
                 .filter(|k| *k > 0.0)
                 .unwrap_or(1.5 / c1);
-            vec![vref * (r_h * (cref - c_min)).exp(), r_h, 5.0 * r_h]
+            vec![vref * (r_h * (cref - c_min)).exp(), r_h]
         }
     }
 }
@@ -529,6 +551,7 @@ fn snippet(base: &Setup, law: LawToFit, p: &[f64]) -> String {
         ),
         LawToFit::Takacs {
             v0_max,
+            r_flocculant,
             non_settleable_fraction,
         } => format!(
             "{head}models:\n  hindered:\n    takacs:\n      v0_max: \"{} m/d\"\n      v0: \"{} m/d\"\n      \
@@ -536,7 +559,7 @@ fn snippet(base: &Setup, law: LawToFit, p: &[f64]) -> String {
             sig4(v0_max * DAY),
             sig4(p[0] * DAY),
             sig4(p[1]),
-            sig4(p[2]),
+            sig4(r_flocculant),
             sig4(non_settleable_fraction)
         ),
     }
