@@ -199,10 +199,8 @@ impl SettlingCurve {
         initial_concentration: f64,
     ) -> Result<Self, AnalysisError> {
         let name = path.display().to_string();
-        let file = std::fs::File::open(path).map_err(|e| AnalysisError::Csv {
+        let file = std::fs::File::open(path).map_err(|e| AnalysisError::Io {
             file: name.clone(),
-            line: 0,
-            column: 0,
             message: format!("cannot open the file: {e}"),
             hint: "check the path and the file's permissions".into(),
         })?;
@@ -941,6 +939,13 @@ mod tests {
             .to_string();
         assert!(
             e.contains("b.csv:4:1") && e.contains("does not come after"),
+            "{e}"
+        );
+        let e = SettlingCurve::from_csv_path(Path::new("/nonexistent/lab.csv"), 0.5, 100.0)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("/nonexistent/lab.csv: cannot open the file"),
             "{e}"
         );
         // Comment lines count in the line numbers.

@@ -59,6 +59,13 @@ pub enum AnalysisError {
         message: String,
         hint: String,
     },
+    /// A file that cannot be read at all.
+    #[error("{file}: {message}\n  hint: {hint}")]
+    Io {
+        file: String,
+        message: String,
+        hint: String,
+    },
     /// An input value that is out of its physical range or inconsistent.
     #[error("{what}: {message}\n  hint: {hint}")]
     Invalid {
