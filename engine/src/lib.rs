@@ -4,11 +4,15 @@
 //!   terminal velocity, hindered settling).
 //! * [`scenario`] — the YAML scenario format: parsing, units, validation with
 //!   located messages, and resolution into SI inputs for the engines.
+//! * [`analysis`] — from results to decisions: settling-curve analysis
+//!   (Kynch construction, compression point), thickener sizing and fitting
+//!   of hindered-settling laws to lab tests.
 //! * [`continuum`] — the 1-D finite-volume engine over height (Godunov for
 //!   one class, Kurganov–Tadmor for the MLB system).
 //! * [`record`] — what a run records (profiles, settling curve, inventory).
 //! * [`output`] — result files: NetCDF-4 (CF) and the settling-curve CSV.
 
+pub mod analysis;
 pub mod continuum;
 pub mod output;
 pub mod particles;
