@@ -6,10 +6,14 @@
 //!   located messages, and resolution into SI inputs for the engines.
 //! * [`continuum`] — the 1-D finite-volume engine over height (Godunov for
 //!   one class, Kurganov–Tadmor for the MLB system).
-//! * [`record`] — what a run records (profiles, settling curve, inventory).
+//! * [`operation`] — continuous thickeners: flows, bulk velocities, feed
+//!   source and outlet bookkeeping, for any engine.
+//! * [`record`] — what a run records (profiles, settling curve, inventory,
+//!   outlets of a thickener).
 //! * [`output`] — result files: NetCDF-4 (CF) and the settling-curve CSV.
 
 pub mod continuum;
+pub mod operation;
 pub mod output;
 pub mod particles;
 pub mod physics;

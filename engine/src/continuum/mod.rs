@@ -117,6 +117,11 @@ impl ContinuumEngine {
         reconstruction: Reconstruction,
         central: CentralFlux,
     ) -> Result<Self, EngineError> {
+        if setup.thickener.is_some() {
+            return Err(EngineError::Unsupported(
+                "the continuum engine does not run continuous thickeners yet".into(),
+            ));
+        }
         let cells = setup.numerics.cells;
         if cells < 3 {
             return Err(EngineError::Unsupported(format!(
@@ -346,6 +351,7 @@ impl ContinuumEngine {
             seed: self.seed,
             engine: "continuum".to_string(),
             resolution: self.cells as u64,
+            outlets: None,
         }
     }
 

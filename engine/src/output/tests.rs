@@ -82,6 +82,7 @@ fn sample(status: RunStatus) -> RunRecord {
         seed: u64::MAX - 7,
         engine: "particle".into(),
         resolution: 40_000,
+        outlets: None,
     }
 }
 
