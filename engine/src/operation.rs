@@ -241,7 +241,21 @@ impl Operation {
             .min_by(f64::total_cmp)
     }
 
-    /// Largest `q_u + q_e` over `[t0, t1]` (schedules are piecewise linear,
+    /// Whether a schedule changes linearly at `t` (inside a table's span),
+    /// so that the value at a step's start is not its mean over the step.
+    pub fn is_ramping(&self, t: f64) -> bool {
+        let under = match &self.underflow {
+            Underflow::Flow(s) | Underflow::Ratio(s) => s,
+        };
+        [&self.feed_flow, &self.feed_solids, under]
+            .iter()
+            .any(|s| match s {
+                Schedule::Table(rows) => rows[0].0 <= t && t < rows[rows.len() - 1].0,
+                _ => false,
+            })
+    }
+
+    /// Largest of `q_u` and `q_e` over `[t0, t1]` (schedules are piecewise linear,
     /// so the values at the ends and at breakpoints inside bound it), m/s.
     pub fn max_bulk_speed(&self, t0: f64, t1: f64) -> f64 {
         let mut times = vec![t0, t1];

@@ -161,12 +161,19 @@ pub struct OutletSeries {
 pub const BALANCE_TOLERANCE: f64 = 1e-3;
 
 impl OutletSeries {
-    /// Largest relative residual over the samples.
+    /// Largest relative residual over the samples (NaN if any is NaN, so a
+    /// broken balance is never hidden).
     pub fn worst_residual(&self) -> f64 {
         self.samples
             .iter()
             .map(OutletSample::relative_residual)
-            .fold(0.0, f64::max)
+            .fold(0.0, |m: f64, r| {
+                if m.is_nan() || r.is_nan() {
+                    f64::NAN
+                } else {
+                    m.max(r)
+                }
+            })
     }
 }
 

@@ -38,30 +38,30 @@ fn refuse(text: &str) -> Vec<Problem> {
 fn the_example_resolves_to_its_flows() {
     let s = scenario::parse_str(BASE, Path::new("tank.yaml")).unwrap();
     let op = s.thickener.as_ref().expect("a thickener");
-    // Round tank of 20 m: A = π 10² m² (exact geometry).
-    assert!((s.column.area - std::f64::consts::PI * 100.0).abs() < 1e-9);
+    // Round tank of 24 m: A = π 12² m² (exact geometry).
+    assert!((s.column.area - std::f64::consts::PI * 144.0).abs() < 1e-9);
     assert_eq!(s.column.height, 4.0);
     assert_eq!(op.feed_level, 2.5);
-    // Ramp 600 → 800 m³/h over 4–6 h: halfway 700 m³/h (linear interpolation).
-    assert!((op.at(5.0 * 3600.0).feed_flow * 3600.0 - 700.0).abs() < 1e-9);
+    // Ramp 500 → 800 m³/h over 4–6 h: halfway 650 m³/h (linear interpolation).
+    assert!((op.at(5.0 * 3600.0).feed_flow * 3600.0 - 650.0).abs() < 1e-9);
     assert_eq!(
         op.feed_flow,
         Schedule::Table(vec![
-            (4.0 * 3600.0, 600.0 / 3600.0),
+            (4.0 * 3600.0, 500.0 / 3600.0),
             (6.0 * 3600.0, 800.0 / 3600.0)
         ])
     );
-    // Underflow steps 300 → 380 m³/h at 7 h; Q_e = Q_f − Q_u.
+    // Underflow steps 160 → 300 m³/h at 7 h; Q_e = Q_f − Q_u.
     assert!(matches!(op.underflow, Underflow::Flow(Schedule::Steps(_))));
     let p = op.at(8.0 * 3600.0);
-    assert!((p.underflow_flow * 3600.0 - 380.0).abs() < 1e-9);
-    assert!((p.overflow_flow * 3600.0 - 420.0).abs() < 1e-9);
+    assert!((p.underflow_flow * 3600.0 - 300.0).abs() < 1e-9);
+    assert!((p.overflow_flow * 3600.0 - 500.0).abs() < 1e-9);
     // q_u = Q_u/A below the feed, −q_e above (Bürger–Diehl bulk velocity).
-    let qu = 380.0 / 3600.0 / s.column.area;
+    let qu = 300.0 / 3600.0 / s.column.area;
     assert!((op.bulk_velocity(8.0 * 3600.0, 1.0) - qu).abs() < 1e-15);
-    assert!((op.bulk_velocity(8.0 * 3600.0, 3.0) + 420.0 / 3600.0 / s.column.area).abs() < 1e-15);
-    // 3.0 g/L over a solid density of 1450 kg/m³.
-    assert!((op.feed_solids.at(0.0) - 3.0 / 1450.0).abs() < 1e-15);
+    assert!((op.bulk_velocity(8.0 * 3600.0, 3.0) + 500.0 / 3600.0 / s.column.area).abs() < 1e-15);
+    // 3.5 g/L over a solid density of 1450 kg/m³.
+    assert!((op.feed_solids.at(0.0) - 3.5 / 1450.0).abs() < 1e-15);
     // The tank starts with clear water (no `initial`).
     assert_eq!(s.initial_volume_fraction, 0.0);
     // Schedule changes at 4, 6 and 7 h.
@@ -86,9 +86,9 @@ fn feed_level_above_the_lip_is_refused() {
 fn underflow_not_below_the_feed_is_refused() {
     // The feed is 800 m³/h from 6 h on: a step to 790 m³/h at 7 h passes,
     // one to 800 m³/h (nothing over the lip) does not.
-    let (text, _, _) = inject("value: \"380 m³/h\"", "value: \"790 m³/h\"");
+    let (text, _, _) = inject("value: \"300 m³/h\"", "value: \"790 m³/h\"");
     assert!(scenario::parse_str(&text, Path::new("t.yaml")).is_ok());
-    let (text, _, _) = inject("value: \"380 m³/h\"", "value: \"800 m³/h\"");
+    let (text, _, _) = inject("value: \"300 m³/h\"", "value: \"800 m³/h\"");
     let p = refuse(&text);
     assert_eq!(p[0].key, "operation.underflow.flow");
     assert!(
@@ -113,7 +113,7 @@ fn schedule_times_must_increase() {
 
 #[test]
 fn negative_flows_and_backward_ramps_are_refused() {
-    let (text, line, _) = inject("from: \"600 m³/h\"", "from: \"-600 m³/h\"");
+    let (text, line, _) = inject("from: \"500 m³/h\"", "from: \"-500 m³/h\"");
     let p = refuse(&text);
     assert_eq!(p[0].key, "operation.feed_flow.ramp.from");
     assert!(p[0].message.contains("cannot be negative"), "{:?}", p[0]);
@@ -126,7 +126,7 @@ fn negative_flows_and_backward_ramps_are_refused() {
 
 #[test]
 fn underflow_ratio_must_be_a_part_of_the_feed() {
-    let under = "underflow:\n    flow:\n      steps:\n        - { at: \"0 h\", value: \"300 m³/h\" }\n        - { at: \"7 h\", value: \"380 m³/h\" }";
+    let under = "underflow:\n    flow:\n      steps:\n        - { at: \"0 h\", value: \"160 m³/h\" }\n        - { at: \"7 h\", value: \"300 m³/h\" }";
     let (text, line, _) = inject(under, "underflow: { ratio: 1.2 }");
     let p = refuse(&text);
     assert_eq!(p[0].key, "operation.underflow.ratio");
@@ -162,7 +162,7 @@ fn misspelt_operation_keys_get_a_hint() {
 
 #[test]
 fn ambiguous_feed_percentage_is_refused() {
-    let (text, line, _) = inject("feed_solids: \"3.0 g/L\"", "feed_solids: \"3 %\"");
+    let (text, line, _) = inject("feed_solids: \"3.5 g/L\"", "feed_solids: \"3 %\"");
     let p = refuse(&text);
     assert!(p[0].message.contains("ambiguous"), "{:?}", p[0]);
     assert_eq!(p[0].line, Some(line));
@@ -195,13 +195,13 @@ fn operation_and_vessel_must_match() {
 #[test]
 fn a_plain_area_is_accepted() {
     let (text, _, _) = inject(
-        "cross_section: { round: { diameter: \"20 m\" } }",
+        "cross_section: { round: { diameter: \"24 m\" } }",
         "cross_section: { area: \"0.03 ha\" }",
     );
     let s = scenario::parse_str(&text, Path::new("t.yaml")).unwrap();
     assert!((s.column.area - 300.0).abs() < 1e-9); // 1 ha = 10⁴ m² (SI brochure)
     let (text, line, _) = inject(
-        "cross_section: { round: { diameter: \"20 m\" } }",
+        "cross_section: { round: { diameter: \"24 m\" } }",
         "cross_section: { area: \"-300 m²\" }",
     );
     let p = refuse(&text);
