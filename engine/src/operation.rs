@@ -98,22 +98,6 @@ impl Schedule {
             Schedule::Steps(rows) | Schedule::Table(rows) => rows.iter().map(|r| r.0).collect(),
         }
     }
-
-    /// Every value the schedule takes on `[0, end]` lies between the values
-    /// at 0, at `end` and at its breakpoints inside: those values.
-    pub fn extreme_values(&self, end: f64) -> Vec<f64> {
-        let mut v = vec![self.at(0.0), self.at(end)];
-        for t in self.breakpoints() {
-            if (0.0..=end).contains(&t) {
-                v.push(self.at(t));
-                // A step's value just before its time.
-                if let Schedule::Steps(_) = self {
-                    v.push(self.at(t - t.abs().max(1.0) * 1e-12));
-                }
-            }
-        }
-        v
-    }
 }
 
 /// How the underflow is set.
@@ -384,8 +368,6 @@ mod tests {
         assert_eq!(t.at(5.0), 2.0);
         assert_eq!(t.at(25.0), 3.0);
         assert_eq!(t.breakpoints(), vec![0.0, 10.0, 20.0]);
-        let ev = s.extreme_values(20.0);
-        assert!(ev.contains(&1.0) && ev.contains(&3.0));
     }
 
     #[test]

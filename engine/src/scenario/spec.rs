@@ -229,7 +229,8 @@ pub enum UnderflowSpec {
 pub enum Scheduled<T> {
     /// The same value all run.
     Constant(T),
-    /// Piecewise constant: each value holds from its time `at` to the next row.
+    /// Piecewise constant: each value holds from its time `at` to the next
+    /// row (before the first row, the first value).
     Steps(Vec<ScheduleRow<T>>),
     /// Linear interpolation between rows, end values beyond them.
     Table(Vec<ScheduleRow<T>>),
