@@ -188,14 +188,15 @@ fn underloaded_steady_state_passes_the_whole_feed_down() {
     );
     // The thickening zone sits on the lower branch, G(C) = F with C < C_M:
     // read halfway between floor and feed (a constant state there, so one
-    // cell value is the state). 0.1 % covers the O(Δz) relaxation of the
-    // monotone scheme's steady profile (measured 1e-6 here).
+    // cell value is the state). A constant state is an exact steady state
+    // of the scheme (every interface passes G(C)), so only the approach in
+    // time is left: measured 5e-14 relative at 12 h; checked at 1e-9.
     let c_low = bisect(|c| g(c) - f, 0.0, c_m);
     let dz = HEIGHT / CELLS as f64;
     let j = (0.5 * FEED_LEVEL / dz) as usize;
     let c_zone = e.cell_total()[j] * RHO_S;
     assert!(
-        (c_zone - c_low).abs() < 1e-3 * c_low,
+        (c_zone - c_low).abs() < 1e-9 * c_low,
         "thickening zone {c_zone} vs lower-branch root {c_low}"
     );
     // Every cell within [0, φmax] (monotone scheme with the bulk flux in
