@@ -106,6 +106,13 @@ impl ParticleEngine {
                     .to_string(),
             ));
         }
+        if setup.thickener.is_some() {
+            return Err(EngineError::Unsupported(
+                "the particle engine does not run continuous thickeners yet; \
+                 run the scenario with `run: { engine: continuum }`"
+                    .to_string(),
+            ));
+        }
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads.max(1))
             .build()
@@ -309,6 +316,7 @@ impl ParticleEngine {
             seed: self.seed,
             engine: "particle".to_string(),
             resolution: self.parcels,
+            outlets: None,
         }
     }
 
