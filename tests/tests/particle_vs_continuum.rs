@@ -29,6 +29,10 @@ const H: f64 = 0.2;
 const BINS: u32 = 50;
 /// Cells of the continuum reference.
 const REFERENCE_CELLS: usize = 800;
+/// Largest ratio of successive L1 figures when the parcels (at least)
+/// double: a fall of 12 %, three times the ~4 % seed-to-seed spread of the
+/// figures (see the test's documentation).
+const STEP_FALL: f64 = 0.88;
 /// Parcel counts of the convergence study.
 const PARCELS: [u64; 3] = [5_000, 10_000, 20_000];
 const NEIGHBOURS: u32 = 256;
@@ -218,11 +222,15 @@ struct Row {
 ///   fewer slabs as the bed grows and the bed's parcels sit in a fixed
 ///   stack, and the factor leaves room for the smeared fronts (measured
 ///   ratios at 20 000: 1.00, 0.66, 0.79, 0.95).
-/// * (b) between successive counts every figure falls at least as
-///   N^(−1/3) (a factor 0.79 per doubling), less steeply than the N^(−1/2)
-///   (0.71 per doubling) of pure binning noise, with a margin of three times
-///   the measured seed-to-seed spread of a ratio (~4 %). Measured per
-///   doubling: 0.49–0.57.
+/// * (b) every figure falls from one count to the next (which at least
+///   doubles it) by more than three times its seed-to-seed spread (~4 %):
+///   to at most [`STEP_FALL`] = 0.88 of the previous one (measured per
+///   doubling at 5k → 20k: 0.45–0.57); and from the first count to the last
+///   at least as N^(−1/3), less steeply than the N^(−1/2) of pure binning
+///   noise. The fall flattens beyond 20 000 parcels, because the kernel's
+///   bias of order 1/nb at a fixed nb = 256 neighbours does not shrink with
+///   N: measured 40k → 80k, 0.73–0.80 per doubling, and the class-0 figure
+///   of the pair rising from 0.79 to 0.95 of its Poisson scale.
 #[test]
 fn particle_profiles_converge_to_the_continuum_profiles() {
     // The one-class interface reaches the bed at ≈ 280 s (Kynch shock
@@ -310,21 +318,34 @@ fn particle_profiles_converge_to_the_continuum_profiles() {
         );
     }
     // (b) Falling with the parcel count.
+    let figures = |r: &Row| {
+        [
+            ("one class", r.mono),
+            ("two classes, total", r.pair[0]),
+            ("two classes, class 0", r.pair[1]),
+            ("two classes, class 1", r.pair[2]),
+        ]
+    };
     for w in rows.windows(2) {
         let (a, b) = (&w[0], &w[1]);
-        let limit = (a.parcels as f64 / b.parcels as f64).powf(1.0 / 3.0);
-        for (what, ea, eb) in [
-            ("one class", a.mono, b.mono),
-            ("two classes, total", a.pair[0], b.pair[0]),
-            ("two classes, class 0", a.pair[1], b.pair[1]),
-            ("two classes, class 1", a.pair[2], b.pair[2]),
-        ] {
+        assert!(b.parcels >= 2 * a.parcels, "counts must at least double");
+        for ((what, ea), (_, eb)) in figures(a).into_iter().zip(figures(b)) {
             assert!(
-                eb <= limit * ea,
-                "{what}: L1 {ea:.4} at {} parcels → {eb:.4} at {}: fell by less than (N₁/N₂)^(1/3) = {limit:.3}",
+                eb <= STEP_FALL * ea,
+                "{what}: L1 {ea:.4} at {} parcels → {eb:.4} at {}: fell by less than {STEP_FALL}",
                 a.parcels,
                 b.parcels
             );
         }
+    }
+    let (first, last) = (&rows[0], rows.last().unwrap());
+    let limit = (first.parcels as f64 / last.parcels as f64).powf(1.0 / 3.0);
+    for ((what, ea), (_, eb)) in figures(first).into_iter().zip(figures(last)) {
+        assert!(
+            eb <= limit * ea,
+            "{what}: L1 {ea:.4} at {} parcels → {eb:.4} at {}: fell by less than (N₁/N₂)^(1/3) = {limit:.3}",
+            first.parcels,
+            last.parcels
+        );
     }
 }
