@@ -177,7 +177,7 @@ pub struct StageTimes {
 }
 
 impl StageTimes {
-    fn add(&mut self, name: &'static str, since: Instant) {
+    pub(crate) fn add(&mut self, name: &'static str, since: Instant) {
         let d = since.elapsed();
         match self.stages.iter_mut().find(|(n, _)| *n == name) {
             Some((_, t)) => *t += d,
