@@ -1,12 +1,12 @@
 //! The continuous thickener in the particle engine against solids-flux theory.
 //!
 //! Promise: the solids balance (in = out + accumulation) closes to rounding;
-//! an underloaded tank sends every fed solid to the underflow (C_u = Q_f C_f/Q_u);
-//! a tank fed at the Yoshioka limiting flux G_L passes it with
-//! C_u = G_L/q_u and a clear overflow; an overloaded tank fills up to the lip
-//! and spills the excess with the overflow; a feed step moves the tank from
-//! one steady state to the other through a blanket rising at the speed the
-//! flux balance gives. Runs are bit-identical on 1 and 2 threads.
+//! an underloaded tank sends every fed solid to the underflow
+//! (C_u = Q_f C_f/Q_u, mass balance); an overloaded tank passes the Yoshioka
+//! limiting flux G_L to the underflow (C_u = G_L/q_u), fills up to the lip and
+//! spills the rest with the overflow; a feed step moves the tank from the one
+//! steady state to the other through a blanket rising at the speed the flux
+//! theory gives. Runs are bit-identical on 1 and 2 threads.
 //!
 //! # The invented sludge and tank
 //!
@@ -31,33 +31,36 @@
 //!   tangent to f at C_m, i.e. f′(C_m) = −q_u, gives the limiting flux
 //!   G_L = q_u C_m + f(C_m) = min G over the thickening branch and
 //!   C_u = G_L/q_u. Here G_L = 4.37 kg/(m² h), C_m = 8.28 kg/m³, C_u = 10.9 kg/m³.
-//! * The dilute capacity G_M = G(C_M) (local maximum, 6.75 kg/(m² h) at
-//!   C_M = 2.32 kg/m³). Derivation: from a tank of clear water the feed fills
-//!   the thickening zone with a suspension on the rising dilute branch of G;
-//!   the underflow outlet takes whatever reaches the floor (the model switches
-//!   settling off below the floor, so the concentration jumps there to
-//!   C_u = flux/q_u without passing C_m inside the tank). A dilute zone can
-//!   carry at most G_M; a feed above it backs up, and the excess F − G_M
-//!   rises through the clarification zone at the concentration C_c with
-//!   q_e C_c − f(C_c) = F − G_M (its only positive root), which fills the zone
-//!   from the feed up at the speed (F − G_M)/C_c and then spills over the lip.
-//!   So without compression the Yoshioka limit G_L does not cap the
-//!   underflow of a tank filled from clear water (G_L < F < G_M passes
-//!   everything): the checks below use G_L where theory makes it binding
-//!   (critical load) and G_M for the overloaded tank.
+//! * A feed F = q_f C_f below G_L goes down entirely (underloaded): the
+//!   thickening zone holds the dilute root of G(C) = F and C_u = F/q_u.
+//! * A feed above G_L (overloaded): the thickening zone passes G_L, a blanket
+//!   fills it, and the excess F − G_L rises through the clarification zone at
+//!   the concentration C_c with q_e C_c − f(C_c) = F − G_L (its only positive
+//!   root: q_e C − f(C) dips below zero from C = 0 since f′(0) = v0 > q_e, then
+//!   rises monotonically) and leaves over the lip at C_e = (F − G_L)/q_e.
+//! * The blanket rising from the floor after a step to F (G_L < F < G(C_M)):
+//!   above it the dilute root C_low of G(C) = F; the front is the Oleinik
+//!   admissible wave from C_low to the blanket, a shock from C_low to the
+//!   point C_t of the convex-hull tangent, G′(C_t) = (G(C_t) − F)/(C_t − C_low),
+//!   C_M < C_t < C_m, followed by a fan; the shock rises at −G′(C_t).
 //!
 //! # Tolerances
 //!
 //! Averaged over a window [t1, t2] of a steady state, the mean underflow
 //! concentration is (solids fed − change of inventory − overflow)/(Q_u Δt)
-//! exactly (the ledger), so beside the theory it differs only by the inventory's
-//! fluctuation over the window (a few parcels out of thousands leaving) and the
-//! feed's carry (less than one parcel): 1 % is ample. The overloaded capacity
-//! depends on the kernel estimate itself: the look-ahead estimate reads φ low
-//! by about 1/n for n parcels in the window (`particles/kernel.rs`: −1.7 % at 64),
-//! and about 37 parcels sit in the window at C_M here (64 at the parcel
-//! reference concentration of 4 kg/m³), so the dilute zone settles a little
-//! fast and carries G_M (1 + ~3 %): 5 % is allowed.
+//! exactly (the ledger), so beside the mass balance it differs only by the
+//! inventory's fluctuation over the window (a few parcels of thousands
+//! leaving) and the feed's carry (less than one parcel): 1 % is ample. The
+//! Yoshioka flux depends on the kernel estimate: the look-ahead estimate reads
+//! φ low by about 1/n for n parcels in the window (`particles/kernel.rs`:
+//! −1.7 % at 64), which raises f by k C ε; at C_m (k C_m = 4.1, n ≈ 130) f is
+//! a quarter of G_L, so G_L comes out about 1 % high; 3 % is allowed. The
+//! clarification zone still fills slowly at the end of the overloaded run
+//! (inventory rising by about 1 % of the feed per hour), so the overflow is
+//! checked within 5 %. The blanket front is smeared over the kernel window
+//! (21 mm with 3000 parcels) and read from 5 cm slabs; its threshold
+//! crossing runs ahead of the sharp front (measured +14 % with 4000 parcels,
+//! +20 % with 3000), so the rise speed is checked within 30 %.
 
 use std::path::Path;
 use std::time::Instant;
@@ -268,14 +271,14 @@ fn worst_residual(r: &RunRecord) -> f64 {
     r.outlets.as_ref().unwrap().worst_residual()
 }
 
-// ---------------------------------------------------------------- 1 + 3. overloaded
+// ---------------------------------------------------------------- 1 + 2 + 3. overloaded
 
-/// Feed 4 kg/m³: F = q_f C_f = 8 kg/(m² h) > G_M = 6.75 > G_L = 4.37.
-/// The thickening zone fills at the dilute capacity, the excess rises and
-/// spills: the blanket reaches the lip and solids leave with the overflow.
-/// The same run measures the solids balance of a run with both outlets busy.
+/// Feed 4 kg/m³: F = q_f C_f = 8 kg/(m² h) > G_L = 4.37. The underflow
+/// carries G_L (Yoshioka), the blanket reaches the lip and the excess leaves
+/// with the overflow. The same run measures the solids balance with both
+/// outlets busy.
 #[test]
-fn overloaded_tank_fills_to_the_lip_and_spills() {
+fn overloaded_tank_passes_the_yoshioka_flux_and_spills() {
     let r = Tank::new("\"4 g/L\"", 3.5).run("overloaded");
     let s = samples(&r);
     let last = s.last().unwrap();
@@ -288,7 +291,7 @@ fn overloaded_tank_fills_to_the_lip_and_spills() {
     assert!(res < 1e-3, "balance residual {res}");
     assert!(res < 1e-12, "balance should close to rounding: {res}");
     // What was injected is what the schedule fed, less than one parcel behind
-    // (exact: Q_f C_f t for a constant feed; parcel volume = φ_ref A H / N).
+    // (exact: Q_f C_f t for a constant feed; parcel mass = C_ref A H / N).
     let fed = QF * Tank::area() * 4.0 * last.time;
     let parcel_mass = 4.0 * Tank::area() * HEIGHT / 4000.0;
     assert!(
@@ -300,43 +303,39 @@ fn overloaded_tank_fills_to_the_lip_and_spills() {
     // (3) The blanket reaches the lip and stays there; solids leave over it.
     let full: Vec<_> = s.iter().filter(|x| x.time >= 2.0 * 3600.0).collect();
     assert!(full.iter().all(|x| x.blanket_level == HEIGHT), "{full:?}");
-    assert!(last.solids_out_overflow > 0.05 * last.solids_in);
+    assert!(last.solids_out_overflow > 0.2 * last.solids_in);
 
-    // Steady state over the last 1.5 h: the underflow carries the dilute
-    // capacity G_M, the overflow the rest.
-    let (cm_max, _) = stationary_points();
-    let gm = g_below(cm_max);
-    let (gl, _) = yoshioka();
+    // (2) Steady state over the last 1.5 h: the underflow at Yoshioka's C_u,
+    // the overflow takes the rest of the feed.
+    let (gl, cu_yoshioka) = yoshioka();
     let (cu, ce) = window_means(&r, 2.0, 3.5);
     let feed = QF * 4.0;
     println!(
-        "overloaded: C_u {cu:.3} kg/m³ → underflow flux {:.3} kg/(m² h) vs G_M {:.3} (Yoshioka G_L {:.3}); \
-         C_e {ce:.3} kg/m³ vs (F − G_M)/q_e = {:.3}",
-        QU * cu * 3600.0,
-        gm * 3600.0,
+        "overloaded: C_u {cu:.3} kg/m³ vs Yoshioka G_L/q_u = {cu_yoshioka:.3} (G_L {:.3} kg/(m² h)); \
+         C_e {ce:.3} kg/m³ vs (F − G_L)/q_e = {:.3}",
         gl * 3600.0,
-        (feed - gm) / QE
+        (feed - gl) / QE
     );
-    assert_rel(QU * cu, gm, 0.05, "overloaded underflow flux vs G(C_M)");
-    // In steady state the overflow takes the rest of the feed (mass balance).
-    assert_rel(
-        QU * cu + QE * ce,
-        feed,
-        0.01,
-        "underflow + overflow vs feed",
-    );
+    assert_rel(cu, cu_yoshioka, 0.03, "overloaded underflow vs Yoshioka");
+    assert_rel(ce, (feed - gl) / QE, 0.05, "overflow vs (F − G_L)/q_e");
 }
 
 // ---------------------------------------------------------------- 2. steady states
 
-/// Underloaded: C_f = 2 kg/m³, F = 4 kg/(m² h) < G_L. Every solid goes
+/// (2) Underloaded: C_f = 2 kg/m³, F = 4 kg/(m² h) < G_L. Every solid goes
 /// down: C_u = Q_f C_f/Q_u = 10 kg/m³ (mass balance), nothing over the lip.
 #[test]
 fn underloaded_tank_sends_all_solids_to_the_underflow() {
-    let r = Tank::new("\"2 g/L\"", 1.5).run("underloaded");
+    let r = Tank::new("\"2 g/L\"", 2.5).run("underloaded");
     let (gl, _) = yoshioka();
     assert!(QF * 2.0 < gl);
-    let (cu, ce) = window_means(&r, 0.5, 1.5);
+    // A thin layer builds on the floor (the underflow's suspension below it
+    // slows the parcels above, see `particles/thickener.rs`): a staircase of
+    // a few kernel windows, each carrying F at a lower concentration, from
+    // about C_u down to the dilute zone. It fills slowly (the upper steps are
+    // nearly neutral), so the window starts at 1.5 h, when its growth is a
+    // few tenths of a percent of the feed.
+    let (cu, ce) = window_means(&r, 1.5, 2.5);
     let expect = QF * 2.0 / QU;
     println!("underloaded: C_u {cu:.4} kg/m³ vs Q_f C_f/Q_u = {expect:.4}; C_e {ce:.2e}");
     assert_rel(cu, expect, 0.01, "underloaded underflow concentration");
@@ -344,79 +343,67 @@ fn underloaded_tank_sends_all_solids_to_the_underflow() {
     assert!(worst_residual(&r) < 1e-12);
 }
 
-/// Critical load: the feed carries exactly the Yoshioka limiting flux G_L.
-/// The tank passes it (G_L < G_M) with C_u = G_L/q_u from the tangent
-/// construction and a clear overflow.
-#[test]
-fn tank_at_the_yoshioka_limit_passes_it_with_the_tangent_underflow() {
-    let (gl, cu_yoshioka) = yoshioka();
-    let cf = gl / QF;
-    let r = Tank::new(&format!("\"{cf} g/L\""), 1.5).run("critical");
-    let (cu, _) = window_means(&r, 0.5, 1.5);
-    println!(
-        "critical: G_L {:.4} kg/(m² h); C_u {cu:.4} kg/m³ vs Yoshioka G_L/q_u = {cu_yoshioka:.4}",
-        gl * 3600.0
-    );
-    assert_rel(cu, cu_yoshioka, 0.01, "critical underflow vs Yoshioka");
-    assert_eq!(samples(&r).last().unwrap().solids_out_overflow, 0.0);
-}
-
 // ---------------------------------------------------------------- 4. feed step
 
-/// Feed step 2 → 4 kg/m³ at 1 h (F: 4 → 8 kg/(m² h)).
+/// (4) Feed step 2 → 3 kg/m³ at 0.5 h (F: 4 → 6 kg/(m² h), across G_L = 4.37).
 ///
-/// Documented transient: up to 1 h the underloaded steady state (C_u = 10
-/// kg/m³, no blanket: the thickening zone holds about 0.65 kg/m³, below the
-/// 2 kg/m³ threshold). After the step the thickening zone thickens to the
-/// dilute capacity (C ≈ C_M = 2.32 kg/m³, so the blanket jumps to about the
-/// feed level), the excess F − G_M rises through the clarification zone at
-/// C_c (q_e C_c − f(C_c) = F − G_M, about 3.7 kg/m³) and the blanket climbs at
-/// (F − G_M)/C_c ≈ 0.34 m/h until it reaches the lip, about 1.5 h later. The
-/// new steady state is the overloaded one: the underflow carries G_M.
-///
-/// The rise speed magnifies the capacity's kernel bias (a 3 % higher
-/// underflow flux is 6.75·0.03/1.25 ≈ 16 % less excess), so it is checked
-/// within 30 %.
+/// Documented transient: up to 0.5 h the underloaded state (every solid
+/// goes down; the thickening zone holds about 0.65 kg/m³, under the 2 kg/m³
+/// blanket threshold, over a thin floor layer). After the step the thickening zone cannot pass the
+/// feed: a dilute zone at C_low = 1.34 kg/m³ (G(C_low) = F) feeds a blanket
+/// that grows from the floor; its front rises at −G′(C_t) ≈ 0.27 m/h (module
+/// docs), reaches the feed level about 1.7 h after the step, and the
+/// clarification zone then fills at (F − G_L)/C_c ≈ 0.4 m/h up to the lip,
+/// about 3 h after the step.
+/// The new steady state is the overloaded one: C_u = G_L/q_u (Yoshioka) and
+/// C_e = (F − G_L)/q_e.
 #[test]
 fn feed_step_raises_the_blanket_to_a_new_steady_state() {
-    let step = r#"{ steps: [ { at: "0 h", value: "2 g/L" }, { at: "1 h", value: "4 g/L" } ] }"#;
-    let r = Tank::new(step, 4.0).run("feed step");
+    let step = r#"{ steps: [ { at: "0 h", value: "2 g/L" }, { at: "0.5 h", value: "3 g/L" } ] }"#;
+    // 3000 parcels (cost grows as N²: steps ∝ N through the kernel window).
+    let mut tank = Tank::new(step, 5.0);
+    tank.parcels = 3000;
+    let r = tank.run("feed step");
     let s = samples(&r);
 
-    // Before the step: the underloaded steady state.
-    let (cu0, _) = window_means(&r, 0.5, 1.0);
-    assert_rel(cu0, QF * 2.0 / QU, 0.01, "underflow before the step");
-    let before: Vec<_> = s.iter().filter(|x| x.time <= 3600.0).collect();
+    // Before the step: underloaded, no blanket, nothing over the lip
+    // (the steady underflow itself is checked in the test above).
+    let before: Vec<_> = s.iter().filter(|x| x.time <= 1800.0).collect();
     assert!(
-        before.iter().all(|x| x.blanket_level < FEED_LEVEL),
+        before
+            .iter()
+            .all(|x| x.blanket_level < 0.1 && x.solids_out_overflow == 0.0),
         "{before:?}"
     );
 
-    // The blanket rises from the feed level to the lip.
-    let (cm_max, _) = stationary_points();
-    let gm = g_below(cm_max);
-    let feed = QF * 4.0;
-    let h_clar = |c: f64| QE * c - batch_flux(c) - (feed - gm);
-    // q_e C − f(C) falls below zero from C = 0 (f′(0) = v0 > q_e), then
-    // rises monotonically: one root.
-    let cc = bisect(h_clar, 0.0, 60.0 / K);
-    let speed = (feed - gm) / cc;
+    // The blanket front rising from the floor.
+    let feed = QF * 3.0;
+    let (c_max, c_min) = stationary_points();
+    let c_low = bisect(|c| g_below(c) - feed, 0.0, c_max);
+    let dg = |c: f64| QU + V0 * (-K * c).exp() * (1.0 - K * c);
+    let c_t = bisect(|c| dg(c) * (c - c_low) - (g_below(c) - feed), c_max, c_min);
+    let speed = -dg(c_t);
+    // Time the blanket first reaches h after the step, interpolated linearly
+    // between records.
     let crossing = |h: f64| {
-        s.iter()
-            .find(|x| x.time > 3600.0 && x.blanket_level >= h)
-            .unwrap_or_else(|| panic!("blanket never reached {h} m"))
-            .time
+        let k = s
+            .iter()
+            .position(|x| x.time > 1800.0 && x.blanket_level >= h)
+            .unwrap_or_else(|| panic!("blanket never reached {h} m"));
+        let (a, b) = (&s[k - 1], &s[k]);
+        a.time + (b.time - a.time) * (h - a.blanket_level) / (b.blanket_level - a.blanket_level)
     };
-    let (t1, t2) = (crossing(0.6), crossing(0.9));
+    let (t1, t2) = (crossing(0.1), crossing(0.4));
     let measured = 0.3 / (t2 - t1);
     println!(
-        "feed step: blanket 0.6 → 0.9 m in {:.2} h: {:.3} m/h vs (F − G_M)/C_c = {:.3} m/h (C_c {cc:.2} kg/m³)",
+        "feed step: blanket 0.1 → 0.4 m in {:.2} h: {:.3} m/h vs −G′(C_t) = {:.3} m/h \
+         (C_low {c_low:.2}, C_t {c_t:.2} kg/m³)",
         (t2 - t1) / 3600.0,
         measured * 3600.0,
         speed * 3600.0
     );
     assert_rel(measured, speed, 0.3, "blanket rise speed");
-    // Monotone rise between the crossings (record to record, one bin of slack).
+    // It keeps rising between the crossings (record to record, one 5 cm bin of slack).
     let rising: Vec<f64> = s
         .iter()
         .filter(|x| x.time >= t1 && x.time <= t2)
@@ -424,20 +411,20 @@ fn feed_step_raises_the_blanket_to_a_new_steady_state() {
         .collect();
     assert!(rising.windows(2).all(|w| w[1] >= w[0] - 0.05), "{rising:?}");
 
-    // The new steady state: blanket at the lip, the underflow at G_M.
-    let after: Vec<_> = s.iter().filter(|x| x.time >= 3.5 * 3600.0).collect();
+    // The new steady state: blanket at the lip, Yoshioka's underflow.
+    let after: Vec<_> = s.iter().filter(|x| x.time >= 4.0 * 3600.0).collect();
     assert!(after.iter().all(|x| x.blanket_level == HEIGHT), "{after:?}");
-    let (cu1, _) = window_means(&r, 3.5, 4.0);
+    let (gl, cu_yoshioka) = yoshioka();
+    let (cu1, ce1) = window_means(&r, 4.0, 5.0);
     println!(
-        "feed step: C_u {cu0:.3} → {cu1:.3} kg/m³ (mass balance {:.3}, G_M/q_u {:.3})",
-        QF * 2.0 / QU,
-        gm / QU
+        "feed step: new steady C_u {cu1:.3} kg/m³ (Yoshioka {cu_yoshioka:.3}); C_e {ce1:.3} vs {:.3}",
+        (feed - gl) / QE
     );
     assert_rel(
-        QU * cu1,
-        gm,
-        0.05,
-        "underflow flux after the step vs G(C_M)",
+        cu1,
+        cu_yoshioka,
+        0.03,
+        "underflow after the step vs Yoshioka",
     );
     assert!(worst_residual(&r) < 1e-12);
 }

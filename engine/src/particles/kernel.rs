@@ -133,6 +133,9 @@ pub struct Kernel {
     pub window_height: f64,
     /// Height of the liquid (free surface), m.
     pub top: f64,
+    /// Floor, m: 0 in a vessel. A thickener opens both ends (−∞ and +∞):
+    /// the outlets' suspension continues beyond them (see `thickener`).
+    pub bottom: f64,
     norm: f64,
     table: HorizontalTable,
 }
@@ -186,6 +189,7 @@ impl Kernel {
             radius,
             window_height,
             top,
+            bottom: 0.0,
             norm: 1.0 / (radius * radius * window_height),
             table,
         }
@@ -206,7 +210,7 @@ impl Kernel {
     /// Fraction of the kernel at (x, y, z), looking down or up, that lies
     /// inside the liquid.
     pub fn inside_fraction(&self, x: f64, y: f64, z: f64, up: bool) -> f64 {
-        let room = if up { self.top - z } else { z };
+        let room = if up { self.top - z } else { z - self.bottom };
         let vertical = k1_integral((room / self.window_height).clamp(0.0, 1.0));
         vertical * self.horizontal_fraction(x, y)
     }

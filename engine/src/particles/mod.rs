@@ -252,6 +252,11 @@ impl ParticleEngine {
                 .chain(),
         );
         if setup.thickener.is_some() {
+            // The suspension continues beyond the outlets (outlet parcels):
+            // the kernel is not cut at the floor and the lip.
+            let k = &mut world.resource_mut::<KernelRes>().0;
+            k.top = f64::INFINITY;
+            k.bottom = f64::NEG_INFINITY;
             use thickener::*;
             schedule.add_systems((
                 limit_step.after(choose_time_step).before(integrate),

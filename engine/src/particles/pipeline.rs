@@ -521,6 +521,9 @@ pub fn take_frame(time: f64, rec: &Recorder, bed: &Bed, q: &Query<(&Position, &P
     let mut phi_class = vec![0.0; layout.nclasses() * nz];
     let mut solids = 0.0;
     for (pos, parcel) in q.iter() {
+        if !(0.0..=top).contains(&pos.0[2]) {
+            continue; // left through a thickener's outlet (never in a batch column)
+        }
         let k = ((pos.0[2] / dz).floor().max(0.0) as usize).min(nz - 1);
         phi_class[parcel.class as usize * nz + k] += parcel.volume;
         solids += parcel.volume;

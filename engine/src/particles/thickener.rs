@@ -10,6 +10,8 @@
 //!   → record → sample_outlets
 //! ```
 //!
+//! and the kernel is opened at the floor and the lip (see *The outlets*).
+//!
 //! # Velocities
 //!
 //! With volume-average (bulk) velocity `q` the fluid moves at
@@ -61,6 +63,25 @@
 //! `round(N_i φ0/φ_ref)` (at least one) parcels per class of the volume that
 //! holds exactly the initial inventory.
 //!
+//! # The outlets
+//!
+//! In the model, settling acts inside the vessel only: below the floor the
+//! underflow's suspension moves down with `q_u`, above the lip the
+//! overflow's moves up with `q_e`, each at its outlet concentration. The
+//! engine keeps that suspension: a parcel that crosses the floor (z < 0) or
+//! the lip (z > H) is booked to its outlet once and becomes an *outlet
+//! parcel*, moved by the bulk flow only (it is flagged resting, so it neither
+//! samples nor settles) until it is one kernel window beyond the outlet, where
+//! it is despawned. Outlet parcels count as neighbours, and the kernel is not
+//! cut at the floor and the lip (`Kernel::bottom`/`top` open): a parcel just
+//! above the floor sees the dense underflow below it and slows down, as the
+//! cells just above the floor do in a finite-volume scheme whose boundary
+//! flux is `q_u φ`. Without it every parcel reaching the floor would leave at
+//! its full settling speed and the thickening zone would pass any flux up to
+//! the local maximum of `q_u φ + φ w(φ)` on its dilute branch; with it a
+//! blanket builds from the floor and the underflow is limited to Yoshioka's
+//! flux (tests/tests/thickener_particles.rs).
+//!
 //! # Moving bed
 //!
 //! The packed bed (parcels resting at φmax, see `walls_floor_packing`) is not
@@ -71,23 +92,22 @@
 //! is released into the suspension, where the upflow takes it. The batch
 //! column never runs these systems and is unchanged.
 //!
-//! # Outlets and the ledger
+//! # The ledger and the outlet concentrations
 //!
-//! After `integrate`, a parcel at or below the floor (z ≤ 0) has left with
-//! the underflow, one at or above the lip (z ≥ H) with the overflow; it is
-//! despawned (in id order) and its volume booked per class. Every step books
-//! the injected and removed volumes into the [`OutletLedger`]; the inventory
-//! is the sum of the parcel volumes in the tank, so the solids balance closes
-//! to rounding (only summation order differs).
+//! Every step books the injected volumes and the volumes that crossed the
+//! outlets into the [`OutletLedger`]; the inventory is the sum of the volumes
+//! of the parcels inside (outlet parcels excluded), so the solids balance
+//! closes to rounding (only summation order differs).
 //!
-//! Outlet concentrations at a record are the solids volume that left through
-//! the outlet since the previous record over the liquid-plus-solids volume that
-//! the outlet passed in that interval, `C_u = ρ Σ V_u / ∫ Q_u dt` (and the same
-//! for the overflow): the mean concentration of what left during the
-//! interval, flow-weighted. Parcels leave one at a time, so an instantaneous
-//! estimate would be a train of spikes; the interval mean is unbiased and its
-//! relative noise is about `1/√n` for `n` parcels leaving per interval. At
-//! t = 0 nothing has left yet and both are 0.
+//! Outlet concentrations at a record are the solids volume that crossed the
+//! outlet since the previous record over the suspension volume that the
+//! outlet passed in that interval, `C_u = ρ Σ V_u / ∫ Q_u dt` (and the same
+//! for the overflow): the flow-weighted mean concentration of what left during
+//! the interval. Parcels leave one at a time, so an instantaneous estimate
+//! would be a train of spikes; the interval mean is unbiased, its relative
+//! noise about `1/√n` for `n` parcels leaving per interval, and summed over
+//! intervals it is exactly the ledger's. At t = 0 nothing has left yet and
+//! both are 0.
 
 use super::geometry::Section;
 use super::pipeline::*;
@@ -140,6 +160,28 @@ pub fn initial_counts(setup: &Setup, op: &Operation) -> Vec<u64> {
         .collect()
 }
 
+/// Feed solids volume per class (m³) and underflow and overflow volumes
+/// (m³) over the step [t, t + dt], by two-point Gauss quadrature: exact
+/// while the schedules are linear over the step, which [`limit_step`] makes
+/// sure of by ending steps on their breakpoints.
+pub fn over_step(op: &Operation, t: f64, dt: f64) -> (Vec<f64>, f64, f64) {
+    let nc = op.feed_class_share.len();
+    let mut fed = vec![0.0; nc];
+    let mut flux = vec![0.0; nc];
+    let (mut qu, mut qe) = (0.0, 0.0);
+    for s in GAUSS2 {
+        let ts = t + s * dt;
+        op.feed_solids_flux(ts, &mut flux);
+        for (o, f) in fed.iter_mut().zip(&flux) {
+            *o += 0.5 * dt * f * op.area;
+        }
+        let p = op.at(ts);
+        qu += 0.5 * dt * p.underflow_flow;
+        qe += 0.5 * dt * p.overflow_flow;
+    }
+    (fed, qu, qe)
+}
+
 /// The thickener's state in the world.
 #[derive(Resource, Debug, Clone)]
 pub struct Tank {
@@ -167,6 +209,8 @@ pub struct Tank {
     interval_overflow_flow: f64,
     /// A schedule breakpoint the current step ends on.
     land_at: Option<f64>,
+    /// By parcel id: whether the parcel has left through an outlet.
+    left: Vec<bool>,
     pub samples: Vec<OutletSample>,
 }
 
@@ -190,6 +234,7 @@ impl Tank {
             interval_underflow_flow: 0.0,
             interval_overflow_flow: 0.0,
             land_at: None,
+            left: vec![false; next_id as usize],
             samples: Vec::new(),
         }
     }
@@ -278,40 +323,54 @@ pub fn bulk_transport(
     times.add("bulk_transport", t0);
 }
 
-/// Remove the parcels that left through the floor or over the lip and book
-/// them; release bed parcels carried above the feed level.
+/// Book the parcels that crossed the floor or the lip during this step and
+/// turn them into outlet parcels; despawn outlet parcels one kernel window
+/// beyond the outlets; release bed parcels carried above the feed level.
 pub fn outlets(world: &mut World) {
     let t0 = Instant::now();
     let (top, zf) = {
         let t = world.resource::<Tank>();
         (t.top, t.op.feed_level)
     };
-    let mut gone: Vec<(u32, Entity, usize, f64, bool, bool)> = Vec::new();
-    let mut released = 0.0;
+    let reach = world.resource::<KernelRes>().0.window_height;
+    let mut left = std::mem::take(&mut world.resource_mut::<Tank>().left);
+    let mut crossed: Vec<(u32, usize, f64, bool)> = Vec::new();
+    let mut gone: Vec<(u32, Entity)> = Vec::new();
+    let mut bed_loss = 0.0;
     let mut q = world.query::<(Entity, &Position, &Parcel, &mut Resting)>();
     for (e, p, parcel, mut rest) in q.iter_mut(world) {
         let z = p.0[2];
-        let c = parcel.class as usize;
-        if z <= 0.0 || z >= top {
-            gone.push((parcel.id, e, c, parcel.volume, z <= 0.0, rest.0));
+        let id = parcel.id as usize;
+        if left[id] {
+            if z < -reach || z > top + reach {
+                gone.push((parcel.id, e));
+            }
+            continue;
+        }
+        if z < 0.0 || z > top {
+            crossed.push((parcel.id, parcel.class as usize, parcel.volume, z < 0.0));
+            left[id] = true;
+            if rest.0 {
+                bed_loss += parcel.volume;
+            }
+            // From now on it moves with the bulk flow only (see `bulk_transport`).
+            rest.0 = true;
         } else if rest.0 && z >= zf {
             rest.0 = false;
-            released += parcel.volume;
+            bed_loss += parcel.volume;
         }
     }
     // Id order: a fixed booking and despawn order whatever the table order.
+    crossed.sort_by_key(|g| g.0);
     gone.sort_by_key(|g| g.0);
-    let mut bed_loss = released;
     {
         let mut tank = world.resource_mut::<Tank>();
-        for &(_, _, c, v, under, resting) in &gone {
+        tank.left = left;
+        for &(_, c, v, under) in &crossed {
             if under {
                 tank.step_underflow[c] += v;
             } else {
                 tank.step_overflow[c] += v;
-            }
-            if resting {
-                bed_loss += v;
             }
         }
     }
@@ -319,7 +378,7 @@ pub fn outlets(world: &mut World) {
         let mut bed = world.resource_mut::<Bed>();
         bed.volume = (bed.volume - bed_loss).max(0.0);
     }
-    for &(_, e, ..) in &gone {
+    for &(_, e) in &gone {
         world.despawn(e);
     }
     world.resource_mut::<StageTimes>().add("outlets", t0);
@@ -338,20 +397,7 @@ pub fn inject_feed(world: &mut World) {
         let mut tank = world.resource_mut::<Tank>();
         let tank = &mut *tank;
         let nc = tank.parcel_volume.len();
-        let area = tank.op.area;
-        let mut owed = vec![0.0; nc];
-        let mut flux = vec![0.0; nc];
-        let (mut qu, mut qe) = (0.0, 0.0);
-        for s in GAUSS2 {
-            let t = time + s * dt;
-            tank.op.feed_solids_flux(t, &mut flux);
-            for (o, f) in owed.iter_mut().zip(&flux) {
-                *o += 0.5 * dt * f * area;
-            }
-            let p = tank.op.at(t);
-            qu += 0.5 * dt * p.underflow_flow;
-            qe += 0.5 * dt * p.overflow_flow;
-        }
+        let (owed, qu, qe) = over_step(&tank.op, time, dt);
         let mut fed = vec![0.0; nc];
         for c in 0..nc {
             let v = tank.parcel_volume[c];
@@ -364,6 +410,7 @@ pub fn inject_feed(world: &mut World) {
                 fed[c] += v;
                 let id = tank.next_id;
                 tank.next_id += 1;
+                tank.left.push(false);
                 let stream = random::stream(id, random::Purpose::Seeding);
                 let (x, y) = tank.section.sample(
                     random::uniform(tank.seed, stream, 1),
@@ -422,12 +469,16 @@ pub fn sample_outlets(world: &mut World) {
         return;
     }
     let t0 = Instant::now();
+    let left = std::mem::take(&mut world.resource_mut::<Tank>().left);
     let nc = world.resource::<Tank>().parcel_volume.len();
     let mut inventory = vec![0.0; nc];
     let mut q = world.query::<&Parcel>();
     for parcel in q.iter(world) {
-        inventory[parcel.class as usize] += parcel.volume;
+        if !left[parcel.id as usize] {
+            inventory[parcel.class as usize] += parcel.volume;
+        }
     }
+    world.resource_mut::<Tank>().left = left;
     let (time, blanket_profile, z) = {
         let rec = world.resource::<Recorder>();
         let frame = rec.frames.last().expect("a frame was just recorded");
@@ -456,4 +507,40 @@ pub fn sample_outlets(world: &mut World) {
     tank.interval_underflow_flow = 0.0;
     tank.interval_overflow_flow = 0.0;
     world.resource_mut::<StageTimes>().add("sample_outlets", t0);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::Path;
+
+    const EXAMPLE: &str = include_str!("../../../scenarios/municipal-thickener.yaml");
+
+    #[test]
+    fn an_empty_tank_gets_the_parcel_volume_of_its_feed() {
+        let setup = crate::scenario::parse_str(EXAMPLE, Path::new("t.yaml")).unwrap();
+        let op = setup.thickener.as_ref().unwrap();
+        assert_eq!(initial_counts(&setup, op), vec![0]);
+        // One class: v = φ_f A H / N with φ_f = 3 g/L over 1450 kg/m³, A = π 10² m²,
+        // H = 4 m, N = 20 000 (the example's values; exact arithmetic).
+        let expect = 3.0 / 1450.0 * std::f64::consts::PI * 100.0 * 4.0 / 20_000.0;
+        let v = parcel_volumes(&setup, op);
+        assert!((v[0] - expect).abs() < 1e-15 * expect, "{v:?}");
+    }
+
+    #[test]
+    fn feed_over_a_step_of_the_ramp_is_exact() {
+        // The example ramps Q_f from 600 to 800 m³/h over 4–6 h at φ_f = 3/1450
+        // with Q_u = 300 m³/h: over [4.5 h, 4.5 h + 600 s] the mean feed is the
+        // ramp's value at mid-step, 600 + 200·(4.5 + 1/12 − 4)/2 m³/h (linear).
+        let setup = crate::scenario::parse_str(EXAMPLE, Path::new("t.yaml")).unwrap();
+        let op = setup.thickener.as_ref().unwrap();
+        let (t, dt) = (4.5 * 3600.0, 600.0);
+        let (fed, qu, qe) = over_step(op, t, dt);
+        let q_mid = (600.0 + 200.0 * (4.5 + 1.0 / 12.0 - 4.0) / 2.0) / 3600.0;
+        let phi = 3.0 / 1450.0;
+        assert!((fed[0] - q_mid * phi * dt).abs() < 1e-13 * fed[0]);
+        assert!((qu - 300.0 / 3600.0 * dt).abs() < 1e-12 * qu);
+        assert!((qe - (q_mid - 300.0 / 3600.0) * dt).abs() < 1e-12 * qe);
+    }
 }
