@@ -485,3 +485,115 @@ fn thickener_runs_are_bit_identical_on_one_and_two_threads() {
         pa.len()
     );
 }
+
+// ---------------------------------------------------------------- 6. moving bed
+
+/// A packed bed moves down with the underflow.
+///
+/// INVENTED: fine quartz sand, 40 µm, 2650 kg/m³, Richardson–Zaki with the
+/// default exponent, φmax = 0.6, in the same small tank with q_f = 1 m/h,
+/// Q_u/Q_f = 0.1 (q_u = 0.1 m/h) and a feed of 10 vol%: F = 0.1 m/h of solids.
+/// With q_u below 0.085 v_t, G(φ) = q_u φ + v_t φ (1 − φ)^n falls all the way
+/// to φmax (G′ < 0; at φ = 0.6, (1 − φ)^3.65 (1 − 5.65 φ) = −0.085), and the
+/// hindered velocity is zero at φmax, so the least flux on the thickening
+/// branch is the packed bed's, G(φmax) = q_u φmax = 0.06 m/h < F: the bed
+/// grows from the floor and the underflow is the bed itself, C_u = ρ φmax.
+/// The bed grows by the excess: d(bed)/dt = (F − q_u φmax)/(φmax − φ_s), with
+/// φ_s the dilute root of G(φ_s) = F above it (exact flux balance across the
+/// bed surface, computed here).
+#[test]
+fn a_packed_bed_moves_down_with_the_underflow() {
+    let area = Tank::area();
+    let text = format!(
+        r#"format: 1
+title: moving bed (invented sand slurry)
+fluid:
+  water: {{ temperature: "20 °C" }}
+solids:
+  - name: invented fine quartz sand
+    density: "2650 kg/m³"
+    size: {{ single: "40 µm" }}
+vessel:
+  thickener:
+    height: "1 m"
+    feed_level: "0.5 m"
+    cross_section: {{ round: {{ diameter: "50 mm" }} }}
+operation:
+  feed_flow: "{qf:e} m³/h"
+  feed_solids: "10 vol%"
+  underflow: {{ ratio: 0.1 }}
+models:
+  max_packing: 0.6
+run:
+  end_time: "1.5 h"
+  output_interval: "10 min"
+  parcels: 4000
+  seed: 3
+  engine: particles
+numerics:
+  neighbours: 64
+output:
+  file: out/bed.h5
+  height_bins: 20
+"#,
+        qf = 1.0 * area
+    );
+    let setup = scenario::parse_str(&text, Path::new("bed.yaml")).unwrap();
+    let v_t = setup.classes[0].terminal.velocity;
+    let n = setup.classes[0].exponent;
+    let mut engine = ParticleEngine::new(&setup, &text, 1).unwrap();
+    let t = Instant::now();
+    let r = engine.run(&mut Silent, None);
+    let states = engine.parcel_states();
+    println!("moving bed: {:.1} s wall", t.elapsed().as_secs_f64());
+    for (f, x) in r.frames.iter().zip(samples(&r)) {
+        println!(
+            "  t {:4.2} h  bed {:.4} m  C_u {:7.1} kg/m³  C_e {:.2}",
+            f.time / 3600.0,
+            f.bed_height,
+            x.underflow_concentration,
+            x.overflow_concentration
+        );
+    }
+    let (qu, qf, phi_max, phi_f) = (0.1 / 3600.0, 1.0 / 3600.0, 0.6, 0.1);
+    let feed = qf * phi_f;
+    assert!(qu < 0.085 * v_t, "G must fall to φmax");
+    // Underflow over the last hour: the bed at φmax, ρ φmax = 1590 kg/m³.
+    let s = samples(&r);
+    let (a, b) = (&s[3], s.last().unwrap());
+    let cu = (b.solids_out_underflow - a.solids_out_underflow) / (qu * area * (b.time - a.time));
+    println!(
+        "moving bed: C_u {cu:.1} kg/m³ vs ρ φmax = {:.1}",
+        2650.0 * phi_max
+    );
+    assert_rel(
+        cu,
+        2650.0 * phi_max,
+        0.01,
+        "underflow of a moving packed bed",
+    );
+    // Bed growth over the last hour vs the flux balance at its surface.
+    let g = |p: f64| qu * p + v_t * p * (1.0 - p).powf(n);
+    let phi_s = bisect(|p| g(p) - feed, 0.0, 0.1);
+    let rate = (feed - qu * phi_max) / (phi_max - phi_s);
+    let (fa, fb) = (&r.frames[3], r.frames.last().unwrap());
+    let grown = (fb.bed_height - fa.bed_height) / (fb.time - fa.time);
+    println!(
+        "moving bed: bed grows {:.4} m/h vs (F − q_u φmax)/(φmax − φ_s) = {:.4} m/h (φ_s {phi_s:.4})",
+        grown * 3600.0,
+        rate * 3600.0
+    );
+    assert_rel(grown, rate, 0.1, "bed growth");
+    // The bed is made of resting parcels, all within its height (an
+    // underflow of exactly ρ φmax can only come from them leaving the floor).
+    let resting: Vec<_> = states
+        .iter()
+        .filter(|p| p.resting && p.position[2] > 0.0)
+        .collect();
+    assert!(!resting.is_empty());
+    assert!(
+        resting
+            .iter()
+            .all(|p| p.position[2] <= fb.bed_height + 1e-3)
+    );
+}
