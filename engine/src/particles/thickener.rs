@@ -125,9 +125,16 @@ const GAUSS2: [f64; 2] = [0.211_324_865_405_187_1, 0.788_675_134_594_812_9];
 
 /// The reference fraction `φ_ref` that sets the parcel volume (module docs).
 pub fn reference_fraction(setup: &Setup, op: &Operation) -> f64 {
-    op.feed_solids
-        .extreme_values(setup.run.end_time)
+    // A schedule is constant between steps and linear between table rows,
+    // so its values on [0, end] lie between those at 0, at the end and at
+    // its breakpoints inside.
+    let end = setup.run.end_time;
+    let s = &op.feed_solids;
+    s.breakpoints()
         .into_iter()
+        .filter(|&t| t > 0.0 && t < end)
+        .map(|t| s.at(t))
+        .chain([s.at(0.0), s.at(end)])
         .fold(setup.initial_volume_fraction, f64::max)
 }
 
