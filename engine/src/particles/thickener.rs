@@ -521,7 +521,38 @@ mod tests {
     use super::*;
     use std::path::Path;
 
-    const EXAMPLE: &str = include_str!("../../../scenarios/municipal-thickener.yaml");
+    /// An invented tank (not the shared example, whose numbers may change).
+    const EXAMPLE: &str = r#"format: 1
+title: invented tank for unit tests
+fluid:
+  water: { temperature: "15 °C" }
+solids:
+  - name: invented flocs
+    density: "1450 kg/m³"
+    size: { single: "100 µm" }
+vessel:
+  thickener:
+    height: "4.0 m"
+    feed_level: "2.5 m"
+    cross_section: { round: { diameter: "20 m" } }
+operation:
+  feed_flow:
+    ramp: { from: "600 m³/h", to: "800 m³/h", start: "4 h", end: "6 h" }
+  feed_solids: "3.0 g/L"
+  underflow: { flow: "300 m³/h" }
+models:
+  hindered:
+    vesilind: { v0: "8 m/h", k: "0.5 L/g" }
+  max_packing: 0.6
+run:
+  end_time: "12 h"
+  output_interval: "10 min"
+  parcels: 20000
+  engine: particles
+output:
+  file: out/unit.h5
+  height_bins: 40
+"#;
 
     #[test]
     fn an_empty_tank_gets_the_parcel_volume_of_its_feed() {
@@ -529,7 +560,7 @@ mod tests {
         let op = setup.thickener.as_ref().unwrap();
         assert_eq!(initial_counts(&setup, op), vec![0]);
         // One class: v = φ_f A H / N with φ_f = 3 g/L over 1450 kg/m³, A = π 10² m²,
-        // H = 4 m, N = 20 000 (the example's values; exact arithmetic).
+        // H = 4 m, N = 20 000 (exact arithmetic).
         let expect = 3.0 / 1450.0 * std::f64::consts::PI * 100.0 * 4.0 / 20_000.0;
         let v = parcel_volumes(&setup, op);
         assert!((v[0] - expect).abs() < 1e-15 * expect, "{v:?}");
@@ -537,7 +568,7 @@ mod tests {
 
     #[test]
     fn feed_over_a_step_of_the_ramp_is_exact() {
-        // The example ramps Q_f from 600 to 800 m³/h over 4–6 h at φ_f = 3/1450
+        // The tank ramps Q_f from 600 to 800 m³/h over 4–6 h at φ_f = 3/1450
         // with Q_u = 300 m³/h: over [4.5 h, 4.5 h + 600 s] the mean feed is the
         // ramp's value at mid-step, 600 + 200·(4.5 + 1/12 − 4)/2 m³/h (linear).
         let setup = crate::scenario::parse_str(EXAMPLE, Path::new("t.yaml")).unwrap();
