@@ -107,6 +107,15 @@ impl ParticleEngine {
                     .to_string(),
             ));
         }
+        if setup.thickener.is_some() && setup.compression.is_some() {
+            // Not validated together: the outlet parcels below the floor and
+            // the bed moving with the underflow change what compression sees.
+            return Err(EngineError::Unsupported(
+                "the particle engine does not run a thickener with bed compression yet; \
+                 remove `models.compression`, or run the scenario with `run: { engine: continuum }`"
+                    .to_string(),
+            ));
+        }
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads.max(1))
             .build()
