@@ -195,3 +195,36 @@ fn unknown_format_version_is_named_first() {
     let (text, _, _) = inject("format: 1\n", "format: 2\nfluid_colour: blue\n");
     assert_eq!(refuse(&text).1[0].key, "format");
 }
+
+#[test]
+fn parcels_are_required_by_the_particle_engine_only() {
+    // Particle engine (the default) without `run.parcels`: refused at `run`.
+    let (text, _, _) = inject("  parcels: 20000\n", "");
+    let run_line = text.lines().position(|l| l == "run:").unwrap() + 1;
+    let (kind, p) = refuse(&text);
+    assert_eq!(kind, ErrorKind::Invalid);
+    assert_eq!(p[0].key, "run.parcels");
+    assert!(
+        p[0].message.contains("needs the number of parcels"),
+        "{:?}",
+        p[0]
+    );
+    assert!(
+        p[0].hint
+            .as_deref()
+            .unwrap_or("")
+            .contains("engine: continuum")
+    );
+    // Located in the `run` mapping (its two remaining keys follow `run:`).
+    assert!(
+        p[0].line
+            .is_some_and(|l| (run_line..=run_line + 3).contains(&l)),
+        "{:?}",
+        p[0]
+    );
+    // The continuum engine has no parcels: the same text with it is accepted.
+    let continuum = text.replacen("run:\n", "run:\n  engine: continuum\n", 1);
+    let setup = scenario::parse_str(&continuum, Path::new("case.yaml"))
+        .unwrap_or_else(|e| panic!("continuum without parcels refused: {e}"));
+    assert_eq!(setup.engine, scenario::resolve::EngineSpec::Continuum);
+}

@@ -737,9 +737,11 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
     let run = RunControl {
         end_time: spec.run.end_time.si(),
         output_interval: spec.run.output_interval.si(),
-        parcels: spec.run.parcels,
+        // The continuum engine has no parcels: 0 stands for "not given".
+        parcels: spec.run.parcels.unwrap_or(0),
         seed: spec.run.seed,
     };
+    let needs_parcels = spec.run.engine == EngineSpec::Particles;
     if ck.positive("run.end_time", run.end_time, "end time", "s")
         && ck.positive(
             "run.output_interval",
@@ -766,7 +768,14 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         }
     }
     let nclasses: usize = class_shares.iter().map(Vec::len).sum();
-    if run.parcels < nclasses.max(1) as u64 {
+    if needs_parcels && spec.run.parcels.is_none() {
+        ck.refuse(
+            "run.parcels",
+            "the particle engine needs the number of parcels, and `run.parcels` is missing",
+            "add e.g. `parcels: 20000` under `run` (10⁴–10⁶ give smooth profiles), or choose `engine: continuum`",
+        );
+    } else if (needs_parcels || spec.run.parcels.is_some()) && run.parcels < nclasses.max(1) as u64
+    {
         ck.refuse(
             "run.parcels",
             format!(

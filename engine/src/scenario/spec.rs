@@ -570,8 +570,10 @@ pub struct RunSpec {
     pub end_time: Duration,
     /// Interval between recorded profiles, e.g. "30 s".
     pub output_interval: Duration,
-    /// Number of computational parcels (each stands for many particles).
-    pub parcels: u64,
+    /// Number of computational parcels (each stands for many particles);
+    /// needed by the particle engine, ignored by the continuum engine.
+    #[serde(default)]
+    pub parcels: Option<u64>,
     /// Seed of the random streams; the same seed gives the same results.
     #[serde(default)]
     pub seed: u64,
