@@ -10,7 +10,7 @@ use std::time::{Duration, Instant};
 use turbid_engine::continuum::ContinuumEngine;
 use turbid_engine::output;
 use turbid_engine::particles::{EngineError, Monitor, ParticleEngine};
-use turbid_engine::record::{RunRecord, RunStatus};
+use turbid_engine::record::{BALANCE_TOLERANCE, OutletSeries, RunRecord, RunStatus};
 use turbid_engine::scenario::Setup;
 use turbid_engine::scenario::resolve::EngineSpec;
 
@@ -213,6 +213,11 @@ fn run_inner(
     progress.finish();
     output::write_netcdf(&record, &out).map_err(|e| RunError::Failed(e.to_string()))?;
     output::write_settling_csv(&record, &csv).map_err(|e| RunError::Failed(e.to_string()))?;
+    let outlets_csv = output::outlets_csv_path(&out);
+    if record.outlets.is_some() {
+        output::write_outlets_csv(&record, &outlets_csv)
+            .map_err(|e| RunError::Failed(e.to_string()))?;
+    }
     // Last, so that a summary saying `complete` means both files above are in place.
     let summary_file = summary_path(&out);
     let mut machine = RunSummary::from_record(&record, file, text);
@@ -248,6 +253,16 @@ fn run_inner(
             .map_err(|f| RunError::Failed(f.message))?;
         println!("  plots              {}", dir.display());
     }
+    if let Some(o) = &record.outlets {
+        thickener_summary(o, &outlets_csv);
+        let worst = o.worst_residual();
+        if worst.is_nan() || worst > BALANCE_TOLERANCE {
+            return Err(RunError::Failed(format!(
+                "SOLIDS BALANCE BROKEN: the residual (fed − drawn off − accumulated) reached {:.3e} of the solids fed, above the {:.0e} limit; the results are written but must not be trusted",
+                worst, BALANCE_TOLERANCE
+            )));
+        }
+    }
     Ok(match record.status {
         RunStatus::Complete => Outcome::Complete,
         RunStatus::Partial => Outcome::Interrupted,
@@ -264,16 +279,21 @@ fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64
         .iter()
         .map(|f| ((f.solids_volume - first.solids_volume) / first.solids_volume).abs())
         .fold(0.0, f64::max);
+    let continuous = record.outlets.is_some();
     let status = match record.status {
         RunStatus::Complete => "complete",
         RunStatus::Partial => "PARTIAL (interrupted; the frames recorded so far are saved)",
     };
     println!("run {status} at t = {:.1} s", last.time);
-    println!("  interface height   {:.4} m", last.interface_height);
+    if !continuous {
+        println!("  interface height   {:.4} m", last.interface_height);
+    }
     println!("  bed height         {:.4} m", last.bed_height);
-    println!(
-        "  solids balance     {balance:.2e} (largest relative change of the solids volume over all records)"
-    );
+    if !continuous {
+        println!(
+            "  solids balance     {balance:.2e} (largest relative change of the solids volume over all records)"
+        );
+    }
     println!(
         "  wall time          {:.1} s ({rate:.3e} {unit}-steps/s)",
         wall.as_secs_f64()
@@ -285,4 +305,57 @@ fn summary(record: &RunRecord, out: &Path, csv: &Path, wall: Duration, rate: f64
     );
     println!("  settling curve     {}", csv.display());
     println!("  run summary        {}", summary_path(out).display());
+}
+
+/// The closing lines of a thickener run: outlets at the end, the blanket and
+/// the solids balance.
+fn thickener_summary(o: &OutletSeries, csv: &Path) {
+    let Some(last) = o.samples.last() else {
+        return;
+    };
+    println!(
+        "  blanket level      {:.3} m (highest point at {:.3} g/L; feed at {:.3} m, overflow lip at {:.3} m)",
+        last.blanket_level, o.blanket_threshold, o.feed_level, o.overflow_level
+    );
+    println!(
+        "  feed               {:.2} m³/h at {:.3} g/L = {:.4} t/h of solids",
+        last.feed_flow * 3600.0,
+        last.feed_concentration,
+        last.feed_solids_rate * 3.6
+    );
+    println!(
+        "  underflow          {:.2} m³/h at {:.3} g/L = {:.4} t/h of solids",
+        last.underflow_flow * 3600.0,
+        last.underflow_concentration,
+        last.underflow_solids_rate * 3.6
+    );
+    println!(
+        "  overflow           {:.2} m³/h at {:.4} g/L = {:.4} t/h of solids",
+        last.overflow_flow * 3600.0,
+        last.overflow_concentration,
+        last.overflow_solids_rate * 3.6
+    );
+    println!(
+        "  solids in / out    {:.4} t fed, {:.4} t underflow, {:.4} t overflow; in the tank {:.4} t (at start {:.4} t)",
+        last.solids_in * 1e-3,
+        last.solids_out_underflow * 1e-3,
+        last.solids_out_overflow * 1e-3,
+        last.inventory * 1e-3,
+        last.initial_inventory * 1e-3
+    );
+    let worst = o.worst_residual();
+    let verdict = if worst.is_nan() || worst > BALANCE_TOLERANCE {
+        "BROKEN"
+    } else {
+        "closes"
+    };
+    println!(
+        "  solids balance     {verdict}: residual {:.3e} kg at the end, at most {worst:.2e} of the solids fed over all records",
+        last.balance_residual
+    );
+    println!("  outlets            {}", csv.display());
+    println!(
+        "  caution            underflow and blanket predictions are estimates for screening; confirm designs with \
+         pilot tests and the judgement of a licensed engineer under local codes and regulations"
+    );
 }

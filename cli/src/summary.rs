@@ -27,20 +27,62 @@ pub fn render(file: &Path, s: &Setup) -> String {
         s.fluid.viscosity * 1e3,
         s.fluid.kinematic_viscosity() * 1e6
     );
-    let _ = writeln!(
-        o,
-        "Vessel    batch column, fill height {:.3} m, {} (area {:.4e} m²)",
-        s.column.height, s.column.description, s.column.area
-    );
-    let _ = writeln!(
-        o,
-        "Loading   φ0 = {:.4} ({:.2} vol%) = {:.1} g/L = {:.2} wt%; maximum packing {:.3}",
-        phi0,
-        phi0 * 100.0,
-        conc,
-        wt * 100.0,
-        s.max_packing
-    );
+    match &s.thickener {
+        None => {
+            let _ = writeln!(
+                o,
+                "Vessel    batch column, fill height {:.3} m, {} (area {:.4e} m²)",
+                s.column.height, s.column.description, s.column.area
+            );
+            let _ = writeln!(
+                o,
+                "Loading   φ0 = {:.4} ({:.2} vol%) = {:.1} g/L = {:.2} wt%; maximum packing {:.3}",
+                phi0,
+                phi0 * 100.0,
+                conc,
+                wt * 100.0,
+                s.max_packing
+            );
+        }
+        Some(op) => {
+            let _ = writeln!(
+                o,
+                "Vessel    continuous thickener, {:.3} m floor to overflow lip, feed at {:.3} m, {} (area {:.4e} m²)",
+                s.column.height, op.feed_level, s.column.description, s.column.area
+            );
+            let _ = writeln!(
+                o,
+                "Start     {:.1} g/L of solids in the tank; maximum packing {:.3}",
+                conc, s.max_packing
+            );
+            let p = op.at(0.0);
+            let _ = writeln!(
+                o,
+                "Feed      {:.2} m³/h at {:.3} g/L = {:.3} t/h of solids at t = 0{}",
+                p.feed_flow * 3600.0,
+                op.feed_concentration(0.0),
+                p.feed_flow * op.feed_concentration(0.0) * 3.6,
+                if op.next_change(-1.0).is_some() {
+                    " (scheduled: changes during the run)"
+                } else {
+                    ""
+                }
+            );
+            let _ = writeln!(
+                o,
+                "Outlets   underflow {:.2} m³/h (q_u = {:.4} m/h down), overflow {:.2} m³/h (q_e = {:.4} m/h up) at t = 0",
+                p.underflow_flow * 3600.0,
+                p.underflow_velocity() * 3600.0,
+                p.overflow_flow * 3600.0,
+                p.overflow_velocity() * 3600.0
+            );
+            let _ = writeln!(
+                o,
+                "Blanket   the highest level where the solids reach {:.3} g/L",
+                op.blanket_threshold * op.mean_density()
+            );
+        }
+    }
     let hindered = match s.hindered {
         HinderedChoice::RichardsonZaki => "Richardson–Zaki v = v_t (1 − φ)^n".to_string(),
         HinderedChoice::MichaelsBolger => "Michaels–Bolger type v = v_t (1 − φ/φmax)^n".to_string(),

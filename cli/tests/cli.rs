@@ -125,15 +125,20 @@ fn unknown_command_exits_2() {
 
 #[test]
 fn run_refuses_what_the_particle_engine_does_not_model() {
-    // Bed compression is not modelled by the particle engine yet: refused with
-    // a reason and exit 2, never silently ignored.
+    // Bed compression with several size classes is not modelled by the
+    // particle engine: refused with a reason and exit 2, never silently ignored.
     let dir = std::env::temp_dir().join(format!("turbid-cli-unsupported-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let base = std::fs::read_to_string(repo().join("scenarios/glass-beads-column.yaml")).unwrap();
-    let body = base.replace(
-        "  max_packing: 0.62",
-        "  max_packing: 0.62\n  compression:\n    power_law: { yield_stress: \"1 Pa\", gel_point: 0.2, exponent: 6 }",
-    );
+    let body = base
+        .replace(
+            "  max_packing: 0.62",
+            "  max_packing: 0.62\n  compression:\n    power_law: { yield_stress: \"1 Pa\", gel_point: 0.2, exponent: 6 }",
+        )
+        .replace(
+            "size: { single: \"98 µm\" }",
+            "size: { log_normal: { median: \"98 µm\", geometric_sd: 1.3 } }\n    size_classes: 3",
+        );
     assert_ne!(body, base);
     let path = dir.join("compression.yaml");
     std::fs::write(&path, body).unwrap();
@@ -146,6 +151,7 @@ fn run_refuses_what_the_particle_engine_does_not_model() {
     let stderr = text(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{stderr}");
     assert!(stderr.contains("compression"), "{stderr}");
+    assert!(stderr.contains("one size class"), "{stderr}");
     assert!(!dir.join("x.h5").exists());
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -9,11 +9,15 @@
 //!   of hindered-settling laws to lab tests.
 //! * [`continuum`] — the 1-D finite-volume engine over height (Godunov for
 //!   one class, Kurganov–Tadmor for the MLB system).
-//! * [`record`] — what a run records (profiles, settling curve, inventory).
+//! * [`operation`] — continuous thickeners: flows, bulk velocities, feed
+//!   source and outlet bookkeeping, for any engine.
+//! * [`record`] — what a run records (profiles, settling curve, inventory,
+//!   outlets of a thickener).
 //! * [`output`] — result files: NetCDF-4 (CF) and the settling-curve CSV.
 
 pub mod analysis;
 pub mod continuum;
+pub mod operation;
 pub mod output;
 pub mod particles;
 pub mod physics;

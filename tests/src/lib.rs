@@ -5,6 +5,7 @@
 //! provenance (generating script, library versions, method). The first
 //! non-comment line holds the column names, each with its unit in brackets.
 
+pub mod bidisperse;
 pub mod kynch;
 
 use std::collections::HashMap;

@@ -25,6 +25,7 @@ use turbid_engine::continuum::{CentralFlux, ContinuumEngine, Reconstruction};
 use turbid_engine::record::{RunRecord, RunStatus};
 use turbid_engine::scenario::{self, Setup};
 use turbid_validation::assert_rel;
+use turbid_validation::bidisperse::{self, Pair, PairRun};
 use turbid_validation::kynch::{BatchProblem, KynchSolution, RichardsonZaki, Structure};
 
 /// Standard gravity, m/s² (CGPM 1901, exact; physics.md conventions).
@@ -580,33 +581,21 @@ fn compressible_bed_reaches_the_steady_sediment() {
 
 // ================================================================ MLB pair
 
-/// Liquid of the bidisperse cases (viscous enough that Re < 0.01).
-const RHO_F2: f64 = 1000.0;
-const MU_F2: f64 = 20e-3;
-/// Richardson–Zaki exponent of both classes, V(φ) = (1 − φ)^(n−2) in MLB,
-/// and the packing limit.
-const N_MLB: f64 = 4.7;
-const PHI_MAX2: f64 = 0.6;
-/// Fill height, m.
+/// Fill height of the bidisperse cases, m.
 const H2: f64 = 0.2;
+/// Packing limit and Richardson–Zaki exponent of both classes (the shared
+/// fixture's constants).
+const PHI_MAX2: f64 = bidisperse::PHI_MAX;
 
-/// A bidisperse suspension; class 0 settles faster.
-#[derive(Debug, Clone, Copy)]
-struct Pair {
-    name: &'static str,
-    density: [f64; 2],
-    diameter: [f64; 2],
-    mass_share: [f64; 2],
-    phi0: f64,
-}
-
-/// Equal densities: 150 µm and 90 µm glass (δ₂ = 0.36), 60/40 by mass.
+/// Equal densities: 150 µm and 90 µm glass (δ₂ = 0.36), 60/40 by mass, in a
+/// 20 mPa·s liquid (Re < 0.01).
 const EQUAL: Pair = Pair {
     name: "equal density (150 + 90 µm glass)",
     density: [2500.0, 2500.0],
     diameter: [150e-6, 90e-6],
     mass_share: [0.6, 0.4],
     phi0: 0.2,
+    viscosity: 20e-3,
 };
 
 /// One size, a heavy and a light species: 100 µm of 4000 and 1800 kg/m³,
@@ -617,156 +606,19 @@ const UNEQUAL: Pair = Pair {
     diameter: [100e-6, 100e-6],
     mass_share: [0.7, 0.3],
     phi0: 0.2,
+    viscosity: 20e-3,
 };
 
-impl Pair {
-    /// Initial φ_i: volume shares (w_i/ρ_i)/Σ(w_k/ρ_k) times φ0.
-    fn initial(&self) -> [f64; 2] {
-        let v = [
-            self.mass_share[0] / self.density[0],
-            self.mass_share[1] / self.density[1],
-        ];
-        [
-            self.phi0 * v[0] / (v[0] + v[1]),
-            self.phi0 * v[1] / (v[0] + v[1]),
-        ]
-    }
-
-    /// Stokes velocity of class i alone (physics.md §1.2).
-    fn stokes(&self, i: usize) -> f64 {
-        (self.density[i] - RHO_F2) * G * self.diameter[i] * self.diameter[i] / (18.0 * MU_F2)
-    }
-
-    /// MLB velocities relative to the vessel (physics.md §4.1, the boxed
-    /// flux divided by φ_i): u_i = μ V(φ) [δ_i (ρ̄_i − ρ̄ᵀΦ) − Σ_k δ_k φ_k (ρ̄_k − ρ̄ᵀΦ)]
-    /// with μ = g d₁²/(18 μ_f), δ_i = d_i²/d₁², V = (1 − φ)^(n−2).
-    fn mlb(&self, phi: [f64; 2]) -> [f64; 2] {
-        let total = phi[0] + phi[1];
-        let excess = [self.density[0] - RHO_F2, self.density[1] - RHO_F2];
-        let mix = excess[0] * phi[0] + excess[1] * phi[1];
-        let mu = G * self.diameter[0] * self.diameter[0] / (18.0 * MU_F2);
-        let delta = [1.0, (self.diameter[1] / self.diameter[0]).powi(2)];
-        let v = (1.0 - total).powf(N_MLB - 2.0);
-        let sum: f64 = (0..2).map(|k| delta[k] * phi[k] * (excess[k] - mix)).sum();
-        [
-            mu * v * (delta[0] * (excess[0] - mix) - sum),
-            mu * v * (delta[1] * (excess[1] - mix) - sum),
-        ]
-    }
-
-    fn yaml(&self, cells: usize, end: f64, interval: f64) -> String {
-        let species = |i: usize| {
-            format!(
-                "  - name: class{i}\n    density: \"{} kg/m³\"\n    size: {{ single: \"{} µm\" }}\n    mass_share: {}\n",
-                self.density[i],
-                self.diameter[i] * 1e6,
-                self.mass_share[i]
-            )
-        };
-        format!(
-            r#"format: 1
-title: {name}
-fluid:
-  newtonian: {{ density: "{RHO_F2} kg/m³", viscosity: "{mu} mPa·s" }}
-solids:
-{s0}{s1}vessel:
-  column:
-    height: "{H2} m"
-    cross_section: {{ round: {{ diameter: "50 mm" }} }}
-initial:
-  loading: {phi0}
-models:
-  drag: stokes
-  hindered:
-    richardson_zaki: {{ exponent: {N_MLB} }}
-  max_packing: {PHI_MAX2}
-run:
-  end_time: "{end:e} s"
-  output_interval: "{interval:e} s"
-  parcels: 1000
-  engine: continuum
-numerics:
-  cells: {cells}
-output:
-  file: out/bidisperse.h5
-  height_bins: {cells}
-"#,
-            name = self.name,
-            mu = MU_F2 * 1e3,
-            s0 = species(0),
-            s1 = species(1),
-            phi0 = self.phi0,
-        )
-    }
-
-    /// Parse and check that the engine reads the suspension as intended.
-    fn setup(&self, cells: usize, end: f64, interval: f64) -> (Setup, String) {
-        let text = self.yaml(cells, end, interval);
-        let setup = parse(&text);
-        let phi = self.initial();
-        assert_eq!(setup.classes.len(), 2);
-        for (i, c) in setup.classes.iter().enumerate() {
-            assert_eq!(c.species, i);
-            assert_rel(
-                setup.initial_volume_fraction * c.volume_share,
-                phi[i],
-                1e-12,
-                &format!("{}: initial φ of class {i}", self.name),
-            );
-            assert_rel(
-                c.terminal.velocity,
-                self.stokes(i),
-                1e-12,
-                &format!("{}: Stokes velocity of class {i}", self.name),
-            );
-            assert_eq!(c.exponent, N_MLB);
-        }
-        (setup, text)
-    }
-}
-
-/// The top of the column at early times: clear liquid, a zone of class 1
-/// alone at φ₂'', then the initial mixture.
-///
-/// Across the lower discontinuity (speed s, down) Rankine–Hugoniot holds for
-/// each class. Class 0 is absent above it: s φ₁⁰ = φ₁⁰ u₁⁰, so s = u₁⁰. For
-/// class 1, whose flux alone is φ v₂ (1 − φ)^n (MLB with one class,
-/// physics.md §4.1): u₁⁰ (φ₂⁰ − φ₂'') = φ₂⁰ u₂⁰ − φ₂'' v₂ (1 − φ₂'')^n. The
-/// upper discontinuity (clear liquid above the zone) descends at
-/// v₂ (1 − φ₂'')^n.
-struct UpperZone {
-    phi_zone: f64,
-    lower_speed: f64,
-    upper_speed: f64,
-}
-
-fn upper_zone(pair: &Pair) -> UpperZone {
-    let phi = pair.initial();
-    let u = pair.mlb(phi);
-    let v2 = pair.stokes(1);
-    let jump = |z: f64| u[0] * (phi[1] - z) - (phi[1] * u[1] - z * v2 * (1.0 - z).powf(N_MLB));
-    // The root growing from 0 as φ₂⁰ → 0: the first sign change on a grid,
-    // refined by bisection.
-    let grid: Vec<f64> = (0..=4000).map(|i| PHI_MAX2 * i as f64 / 4000.0).collect();
-    let k = grid
-        .windows(2)
-        .position(|w| jump(w[0]).signum() != jump(w[1]).signum())
-        .expect("the jump condition has a root");
-    let (mut lo, mut hi) = (grid[k], grid[k + 1]);
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if jump(mid).signum() == jump(lo).signum() {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-    }
-    let phi_zone = 0.5 * (lo + hi);
-    UpperZone {
-        phi_zone,
-        lower_speed: u[0],
-        upper_speed: v2 * (1.0 - phi_zone).powf(N_MLB),
-    }
+/// The continuum scenario of `pair` on `cells` cells (recorded on as many slabs).
+fn pair_setup(pair: &Pair, cells: usize, end: f64, interval: f64) -> (Setup, String) {
+    pair.setup(&PairRun {
+        cross_section: r#"{ round: { diameter: "50 mm" } }"#.into(),
+        height: H2,
+        end,
+        interval,
+        bins: cells as u32,
+        engine: bidisperse::Engine::Continuum { cells },
+    })
 }
 
 /// Eigenvalues of the MLB Jacobian at `phi` are real (central differences of
@@ -800,7 +652,7 @@ fn assert_hyperbolic(pair: &Pair, phi: [f64; 2]) {
 /// Run to `end` on `cells` cells, checking per-class positivity and the
 /// packing limit after every step.
 fn run_pair(pair: &Pair, cells: usize, end: f64, interval: f64) -> (RunRecord, f64, u64) {
-    let (setup, text) = pair.setup(cells, end, interval);
+    let (setup, text) = pair_setup(pair, cells, end, interval);
     let start = Instant::now();
     let mut engine = ContinuumEngine::new(&setup, &text).expect("engine");
     assert_eq!(engine.classes(), 2);
@@ -837,7 +689,7 @@ fn run_pair(pair: &Pair, cells: usize, end: f64, interval: f64) -> (RunRecord, f
 /// Per-class inventory at every record: |V_i − φ_i⁰ A H| ≤ 1e-12 φ_i⁰ A H
 /// (physics.md §9 #32, per class).
 fn check_class_inventory(record: &RunRecord, pair: &Pair) {
-    let phi = pair.initial();
+    let phi = pair.initial_fractions();
     let nz = record.layout.nz();
     let dz = H2 / nz as f64;
     for f in &record.frames {
@@ -857,9 +709,9 @@ fn check_class_inventory(record: &RunRecord, pair: &Pair) {
 
 /// The upper zone and the front speeds.
 fn check_fronts(pair: &Pair) {
-    let phi = pair.initial();
+    let phi = pair.initial_fractions();
     assert_hyperbolic(pair, phi);
-    let zone = upper_zone(pair);
+    let zone = pair.upper_zone();
     assert!(
         zone.upper_speed < zone.lower_speed,
         "{}: no zone",

@@ -12,45 +12,25 @@
 //! unequal-density pair (a heavy and a light species of one size). Stokes drag
 //! and one Richardson–Zaki exponent for both classes, so that the engine's
 //! monodisperse velocities are exactly the v_St,i (1 − φ)^n of the papers'
-//! form. Nothing here calls `turbid_engine::physics::polydisperse`.
+//! form. The suspensions' MLB velocities and jump conditions are evaluated in
+//! `turbid_validation::bidisperse`; nothing calls
+//! `turbid_engine::physics::polydisperse`.
 
-use std::path::Path;
 use std::time::Instant;
 use turbid_engine::particles::{ParticleEngine, Silent};
 use turbid_engine::record::RunRecord;
-use turbid_engine::scenario::{self, Setup};
 use turbid_validation::assert_rel;
+use turbid_validation::bidisperse::{Engine, PHI_MAX, Pair, PairRun, first_reach};
 
-/// Standard gravity, m/s² (CGPM 1901, exact; physics.md conventions).
-const G: f64 = 9.80665;
-/// The liquid: density kg/m³ and viscosity Pa·s (viscous enough that Re < 1e-3).
-const RHO_F: f64 = 1000.0;
-const MU_F: f64 = 10e-3;
-/// Richardson–Zaki exponent of both classes: V(φ) = (1 − φ)^(n−2) in MLB.
-const N_RZ: f64 = 4.7;
-const PHI_MAX: f64 = 0.6;
-
-/// A bidisperse suspension: class 0 settles faster than class 1.
-#[derive(Debug, Clone, Copy)]
-struct Pair {
-    name: &'static str,
-    /// Solid densities, kg/m³.
-    density: [f64; 2],
-    /// Diameters, m.
-    diameter: [f64; 2],
-    /// Shares of the dry solids by mass.
-    mass_share: [f64; 2],
-    /// Total initial volume fraction.
-    phi0: f64,
-}
-
-/// Equal densities: 120 µm and 84 µm glass beads (δ₂ = 0.49), 70/30 by mass.
+/// Equal densities: 120 µm and 84 µm glass beads (δ₂ = 0.49), 70/30 by mass,
+/// in a 10 mPa·s liquid (Re < 1e-3).
 const EQUAL_DENSITY: Pair = Pair {
     name: "equal density (120 µm + 84 µm glass)",
     density: [2500.0, 2500.0],
     diameter: [120e-6, 84e-6],
     mass_share: [0.7, 0.3],
     phi0: 0.15,
+    viscosity: 10e-3,
 };
 
 /// Unequal densities, one size: 80 µm grains of 3000 and 2000 kg/m³, 75/25 by
@@ -61,136 +41,8 @@ const UNEQUAL_DENSITY: Pair = Pair {
     diameter: [80e-6, 80e-6],
     mass_share: [0.75, 0.25],
     phi0: 0.15,
+    viscosity: 10e-3,
 };
-
-impl Pair {
-    /// Initial volume fraction of each class: volume shares from mass shares,
-    /// (w_i/ρ_i) / Σ (w_k/ρ_k), times φ0.
-    fn initial_fractions(&self) -> [f64; 2] {
-        let v = [
-            self.mass_share[0] / self.density[0],
-            self.mass_share[1] / self.density[1],
-        ];
-        [
-            self.phi0 * v[0] / (v[0] + v[1]),
-            self.phi0 * v[1] / (v[0] + v[1]),
-        ]
-    }
-
-    /// Stokes velocity of class i alone, (ρ_i − ρ_f) g d_i² / (18 μ_f)
-    /// (physics.md §1.2); = μ δ_i ρ̄_i in the notation of §4.1.
-    fn stokes(&self, i: usize) -> f64 {
-        (self.density[i] - RHO_F) * G * self.diameter[i] * self.diameter[i] / (18.0 * MU_F)
-    }
-
-    /// MLB settling velocities relative to the vessel in a closed batch column
-    /// (physics.md §4.1, boxed flux divided by φ_i):
-    ///
-    /// u_i = μ V(φ) [δ_i (ρ̄_i − ρ̄ᵀΦ) − Σ_k δ_k φ_k (ρ̄_k − ρ̄ᵀΦ)],
-    /// μ = g d_1² / (18 μ_f), δ_i = d_i²/d_1², V(φ) = (1 − φ)^(n−2).
-    fn mlb(&self, phi: [f64; 2]) -> [f64; 2] {
-        let total = phi[0] + phi[1];
-        let excess = [self.density[0] - RHO_F, self.density[1] - RHO_F];
-        let mixture = excess[0] * phi[0] + excess[1] * phi[1];
-        let mu = G * self.diameter[0] * self.diameter[0] / (18.0 * MU_F);
-        let delta = [1.0, (self.diameter[1] / self.diameter[0]).powi(2)];
-        let v = (1.0 - total).powf(N_RZ - 2.0);
-        let sum: f64 = (0..2)
-            .map(|k| delta[k] * phi[k] * (excess[k] - mixture))
-            .sum();
-        [
-            mu * v * (delta[0] * (excess[0] - mixture) - sum),
-            mu * v * (delta[1] * (excess[1] - mixture) - sum),
-        ]
-    }
-
-    fn yaml(&self, column: &str, height: f64, run: &RunSettings) -> String {
-        let species = |i: usize| {
-            format!(
-                "  - name: class{i}\n    density: \"{} kg/m³\"\n    size: {{ single: \"{} µm\" }}\n    mass_share: {}\n",
-                self.density[i],
-                self.diameter[i] * 1e6,
-                self.mass_share[i]
-            )
-        };
-        format!(
-            r#"format: 1
-title: {name}
-fluid:
-  newtonian: {{ density: "{RHO_F} kg/m³", viscosity: "{mu} mPa·s" }}
-solids:
-{s0}{s1}vessel:
-  column:
-    height: "{height} m"
-    cross_section: {column}
-initial:
-  loading: {phi0}
-models:
-  drag: stokes
-  hindered:
-    richardson_zaki: {{ exponent: {N_RZ} }}
-  max_packing: {PHI_MAX}
-run:
-  end_time: "{end:e} s"
-  output_interval: "{interval:e} s"
-  parcels: {parcels}
-  seed: {seed}
-numerics:
-  neighbours: {neighbours}
-output:
-  file: out/bidisperse.h5
-  height_bins: {bins}
-"#,
-            name = self.name,
-            mu = MU_F * 1e3,
-            s0 = species(0),
-            s1 = species(1),
-            phi0 = self.phi0,
-            end = run.end,
-            interval = run.interval,
-            parcels = run.parcels,
-            seed = run.seed,
-            neighbours = run.neighbours,
-            bins = run.bins,
-        )
-    }
-
-    /// Parse the scenario and check that the engine reads the suspension as
-    /// intended (class order, per-class loadings, Stokes velocities, n).
-    fn setup(&self, column: &str, height: f64, run: &RunSettings) -> (Setup, String) {
-        let text = self.yaml(column, height, run);
-        let setup = scenario::parse_str(&text, Path::new("bidisperse.yaml"))
-            .unwrap_or_else(|e| panic!("test scenario refused: {e}\n{text}"));
-        let phi = self.initial_fractions();
-        assert_eq!(setup.classes.len(), 2);
-        for (i, c) in setup.classes.iter().enumerate() {
-            assert_eq!(c.species, i);
-            assert_rel(
-                setup.initial_volume_fraction * c.volume_share,
-                phi[i],
-                1e-12,
-                &format!("{}: initial φ of class {i}", self.name),
-            );
-            assert_rel(
-                c.terminal.velocity,
-                self.stokes(i),
-                1e-12,
-                &format!("{}: Stokes velocity of class {i}", self.name),
-            );
-            assert_eq!(c.exponent, N_RZ);
-        }
-        (setup, text)
-    }
-}
-
-struct RunSettings {
-    end: f64,
-    interval: f64,
-    parcels: u64,
-    seed: u64,
-    neighbours: u32,
-    bins: u32,
-}
 
 // ---------------------------------------------------------------- initial velocities
 
@@ -205,16 +57,19 @@ struct RunSettings {
 /// the 5 000–10 000 parcels of each class away from the boundaries (~0.1 %).
 fn check_initial_velocities(pair: &Pair) {
     let (w, depth, height) = (0.1, 0.1, 0.1);
-    let run = RunSettings {
+    let run = PairRun {
+        cross_section: format!(r#"{{ rectangular: {{ width: "{w} m", depth: "{depth} m" }} }}"#),
+        height,
         end: 1000.0,
         interval: 1000.0,
-        parcels: 50_000,
-        seed: 21,
-        neighbours: 256,
         bins: 50,
+        engine: Engine::Particles {
+            parcels: 50_000,
+            seed: 21,
+            neighbours: 256,
+        },
     };
-    let column = format!(r#"{{ rectangular: {{ width: "{w} m", depth: "{depth} m" }} }}"#);
-    let (setup, text) = pair.setup(&column, height, &run);
+    let (setup, text) = pair.setup(&run);
     let mut engine = ParticleEngine::new(&setup, &text, 1).unwrap();
     let (a, b) = engine.kernel_size();
     engine.step();
@@ -269,69 +124,6 @@ fn unequal_density_pair_starts_at_the_mlb_velocities() {
 
 // ---------------------------------------------------------------- upper zone
 
-/// The top of the column at early times (physics.md §4.3): clear liquid, then
-/// a zone of class 1 alone at φ₂'', then the initial mixture.
-///
-/// Across the lower discontinuity (speed s, down) the Rankine–Hugoniot
-/// condition holds for each class: s [φ_i] = [f_i]. Class 0 is absent above,
-/// so s φ₁⁰ = f₁(mixture), i.e. s = u₁⁰. For class 1, with its flux in the
-/// upper zone f = φ v₂ (1 − φ)^n (MLB with one class, physics.md §4.1):
-///
-///   u₁⁰ (φ₂⁰ − φ₂'') = φ₂⁰ u₂⁰ − φ₂'' v₂ (1 − φ₂'')^n.
-///
-/// The upper discontinuity (clear liquid / zone) descends at
-/// f(φ₂'')/φ₂'' = v₂ (1 − φ₂'')^n.
-struct UpperZone {
-    phi_zone: f64,
-    lower_speed: f64,
-    upper_speed: f64,
-}
-
-fn upper_zone(pair: &Pair) -> UpperZone {
-    let phi = pair.initial_fractions();
-    let u = pair.mlb(phi);
-    let v2 = pair.stokes(1);
-    let jump = |z: f64| u[0] * (phi[1] - z) - (phi[1] * u[1] - z * v2 * (1.0 - z).powf(N_RZ));
-    // The root that grows from 0 as φ₂⁰ → 0: the first sign change on a grid
-    // from 0 up, refined by bisection.
-    let grid: Vec<f64> = (0..=2000).map(|i| PHI_MAX * i as f64 / 2000.0).collect();
-    let k = grid
-        .windows(2)
-        .position(|w| jump(w[0]).signum() != jump(w[1]).signum())
-        .expect("the jump condition has a root in (0, φmax)");
-    let (mut lo, mut hi) = (grid[k], grid[k + 1]);
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if jump(mid).signum() == jump(lo).signum() {
-            lo = mid;
-        } else {
-            hi = mid;
-        }
-    }
-    let phi_zone = 0.5 * (lo + hi);
-    UpperZone {
-        phi_zone,
-        lower_speed: u[0],
-        upper_speed: v2 * (1.0 - phi_zone).powf(N_RZ),
-    }
-}
-
-/// Scanning down from the top, the first height at which `profile` reaches
-/// `level`, interpolated linearly between slab centres `z`.
-fn first_reach(profile: &[f64], z: &[f64], level: f64) -> f64 {
-    let nz = profile.len();
-    if profile[nz - 1] >= level {
-        return z[nz - 1];
-    }
-    for k in (0..nz - 1).rev() {
-        if profile[k] >= level {
-            let s = (profile[k] - level) / (profile[k] - profile[k + 1]);
-            return z[k] + s * (z[k + 1] - z[k]);
-        }
-    }
-    0.0
-}
-
 /// Run the pair in a narrow column to a time before the mixture's top meets
 /// anything rising from the floor, and check the upper zone.
 ///
@@ -346,7 +138,7 @@ fn first_reach(profile: &[f64], z: &[f64], level: f64) -> f64 {
 ///   of φ₁⁰).
 /// * Each class's volume is conserved at every record (N ε).
 fn check_upper_zone(pair: &Pair) {
-    let zone = upper_zone(pair);
+    let zone = pair.upper_zone();
     let phi = pair.initial_fractions();
     assert!(
         zone.upper_speed < zone.lower_speed,
@@ -359,15 +151,20 @@ fn check_upper_zone(pair: &Pair) {
     let u = pair.mlb(phi);
     let rise = (phi[0] * u[0] + phi[1] * u[1]) / (PHI_MAX - pair.phi0);
     let t_obs = 0.5 * height / (zone.lower_speed + rise);
-    let run = RunSettings {
+    let parcels = 30_000;
+    let run = PairRun {
+        cross_section: r#"{ round: { diameter: "20 mm" } }"#.into(),
+        height,
         end: t_obs,
         interval: t_obs / 5.0,
-        parcels: 30_000,
-        seed: 22,
-        neighbours: 256,
         bins: 100,
+        engine: Engine::Particles {
+            parcels,
+            seed: 22,
+            neighbours: 256,
+        },
     };
-    let (setup, text) = pair.setup(r#"{ round: { diameter: "20 mm" } }"#, height, &run);
+    let (setup, text) = pair.setup(&run);
     let start = Instant::now();
     let mut engine = ParticleEngine::new(&setup, &text, 1).unwrap();
     let window = engine.kernel_size().1;
@@ -378,7 +175,7 @@ fn check_upper_zone(pair: &Pair) {
     let dz = height / nz as f64;
 
     // Class inventories.
-    let rounding = run.parcels as f64 * f64::EPSILON;
+    let rounding = parcels as f64 * f64::EPSILON;
     let suspension = layout.area * height;
     for f in &record.frames {
         for (c, (profile, phi_c)) in f.phi_class.chunks_exact(nz).zip(phi).enumerate() {

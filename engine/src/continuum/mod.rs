@@ -1,6 +1,6 @@
-//! The continuum engine: the batch column as a 1-D finite-volume solution of
-//! the kinematic settling laws over height, recorded in the same
-//! [`RunRecord`] as the particle engine.
+//! The continuum engine: the batch column or continuous thickener as a 1-D
+//! finite-volume solution of the kinematic settling laws over height,
+//! recorded in the same [`RunRecord`] as the particle engine.
 //!
 //! * **One size class** ([`scalar`]): Kynch's law `∂φ/∂t + ∂f(φ)/∂x = 0`
 //!   with `f = φ v(φ)` from the class's hindered law (`Setup::hindered_law`),
@@ -47,14 +47,53 @@
 //! * solids volume: `A Δz Σ φ_j` over cells and classes.
 //!
 //! The grid has `numerics.cells` cells over the fill height.
+//!
+//! # Continuous thickener
+//!
+//! With `setup.thickener` the same solvers run the consistent model of
+//! Bürger, Diehl & Nopens (2011), Water Res. 45(6), 2247–2260 (zones and
+//! outlet conditions as summarised in physics.md §7.2; equation layout from
+//! memory, the inlet dispersion term of that model left out), through the
+//! engine-neutral [`crate::operation`] layer:
+//!
+//! * the grid covers floor to overflow lip; the cell that holds the feed
+//!   level takes the feed as a source `Q_f φ_f s_i/(A Δz)` per class;
+//! * every interface at or below the feed cell's bottom face carries, besides
+//!   the batch flux (and compression), the bulk flux `q_u φ` of the cell
+//!   above it (upwind, downward); every interface at or above its top face
+//!   `−q_e φ` of the cell below it (upward); for several classes the bulk
+//!   velocity is added to each class's velocity this way, so the
+//!   volume-average velocity is `q` (the batch MLB velocities have volume
+//!   average zero);
+//! * the floor and the top are the outlets: the batch flux and compression
+//!   stop there, only the bulk flow carries solids out, `q_u φ_0` into the
+//!   underflow and `q_e φ_{N−1}` over the lip, so `C_u` and `C_e` are the
+//!   floor and top cells' concentrations (the outlet zones of the model,
+//!   where solids only travel with the bulk, need no cells);
+//! * the step also honours `max(q_u, q_e)` in the Courant limit and ends on
+//!   every schedule change ([`crate::operation::Operation::next_change`]);
+//!   during a ramp the flows are taken at the step's midpoint, the exact mean
+//!   of a linear schedule;
+//! * the solids that cross the boundaries are booked per class from the
+//!   fluxes actually applied (both SSP-RK2 stages, weighted ½), so
+//!   fed − drawn off − accumulated is rounding (about 1e-12 of the feed);
+//! * records add an [`crate::record::OutletSample`]; the frame's
+//!   `interface_height` is the blanket level
+//!   ([`crate::record::blanket_level`] on the cell profile, threshold
+//!   `operation.blanket_threshold`).
 
 pub mod scalar;
 pub mod system;
 
+use crate::operation::{Operation, OutletLedger};
 use crate::particles::{EngineError, Monitor};
 use crate::physics::compression::PowerLawStress;
-use crate::record::{Frame, RecordLayout, RunRecord, RunStatus, interface_height};
+use crate::record::{
+    Frame, OutletSample, OutletSeries, RecordLayout, RunRecord, RunStatus, blanket_level,
+    interface_height,
+};
 use crate::scenario::Setup;
+pub use scalar::Bulk;
 pub use scalar::Reconstruction;
 use scalar::{BedDiffusion, ScalarFlux, ScalarSolver};
 use std::sync::Arc;
@@ -91,6 +130,17 @@ pub struct ContinuumEngine {
     scenario_yaml: String,
     title: String,
     seed: u64,
+    /// Feed, outlets and their bookkeeping of a continuous thickener.
+    thickener: Option<Continuous>,
+}
+
+/// The continuous part of a thickener run.
+struct Continuous {
+    op: Operation,
+    /// Cell that holds the feed level.
+    feed_cell: usize,
+    ledger: OutletLedger,
+    samples: Vec<OutletSample>,
 }
 
 impl ContinuumEngine {
@@ -214,7 +264,23 @@ impl ContinuumEngine {
             scenario_yaml: scenario_yaml.to_string(),
             title: setup.title.clone(),
             seed: setup.run.seed,
+            thickener: None,
         };
+        if let Some(op) = &setup.thickener {
+            let dz = height / cells as f64;
+            let feed_cell = ((op.feed_level / dz).floor() as usize).min(cells - 1);
+            let initial = op
+                .feed_class_share
+                .iter()
+                .map(|s| phi0 * s * height * op.area)
+                .collect();
+            engine.thickener = Some(Continuous {
+                op: op.clone(),
+                feed_cell,
+                ledger: OutletLedger::new(initial),
+                samples: Vec::new(),
+            });
+        }
         let frame = engine.take_frame();
         engine.frames.push(frame);
         Ok(engine)
@@ -293,31 +359,114 @@ impl ContinuumEngine {
     }
 
     /// One step: as long as the Courant limit allows, shortened to end on the
-    /// next record time (where a frame is taken).
+    /// next record time (where a frame is taken) or on the next change of a
+    /// thickener's schedules (so a step change acts on time).
     pub fn step(&mut self) {
         if self.finished() {
             return;
         }
-        let target = self.next_record_time();
-        let to_record = target - self.time;
-        let taken = match &mut self.solver {
-            Solver::Scalar(s) => {
-                let dt = s.stable_step(self.courant).min(to_record);
-                s.step(dt);
-                dt
+        let record_time = self.next_record_time();
+        let mut target = record_time;
+        let mut ramping = false;
+        if let Some(t) = &self.thickener {
+            if let Some(change) = t.op.next_change(self.time) {
+                target = target.min(change);
             }
-            Solver::System(s) => s.step(to_record, self.courant),
+            ramping = t.op.is_ramping(self.time);
+        }
+        let to_target = target - self.time;
+        let taken = if !ramping {
+            self.set_bulk(self.time, None);
+            match &mut self.solver {
+                Solver::Scalar(s) => {
+                    let dt = s.stable_step(self.courant).min(to_target);
+                    s.step(dt);
+                    dt
+                }
+                Solver::System(s) => s.step(to_target, self.courant),
+            }
+        } else {
+            // A ramp: the step length from the fastest bulk flow until the
+            // target, then the flows at the step's midpoint (the exact mean
+            // of a linear ramp, so the solids fed match the schedule).
+            let fastest = self
+                .thickener
+                .as_ref()
+                .map(|t| t.op.max_bulk_speed(self.time, target));
+            self.set_bulk(self.time, fastest);
+            let dt = match &mut self.solver {
+                Solver::Scalar(s) => s.stable_step(self.courant),
+                Solver::System(s) => s.first_stage_step(self.courant),
+            }
+            .min(to_target);
+            self.set_bulk(self.time + 0.5 * dt, None);
+            match &mut self.solver {
+                Solver::Scalar(s) => {
+                    s.step(dt);
+                    dt
+                }
+                Solver::System(s) => s.step(dt, self.courant),
+            }
         };
         self.steps += 1;
-        // A step within rounding of the record time lands on it.
-        if taken >= to_record * (1.0 - 1e-12) {
+        self.book_crossings();
+        // A step within rounding of the target lands on it.
+        if taken >= to_target * (1.0 - 1e-12) {
             self.time = target;
-            let frame = self.take_frame();
-            self.frames.push(frame);
-            self.next_record += 1;
+            if target == record_time {
+                let frame = self.take_frame();
+                self.frames.push(frame);
+                self.next_record += 1;
+            }
         } else {
             self.time += taken;
         }
+    }
+
+    /// Bulk velocities and feed source of the thickener at `time`; with
+    /// `speed`, both bulk velocities are set to it instead (to size a step).
+    fn set_bulk(&mut self, time: f64, speed: Option<f64>) {
+        let Some(t) = &self.thickener else {
+            return;
+        };
+        let p = t.op.at(time);
+        let dz = self.cell_height();
+        let mut sources = vec![0.0; t.op.feed_class_share.len()];
+        t.op.feed_solids_flux(time, &mut sources);
+        for s in &mut sources {
+            *s /= dz;
+        }
+        let bulk = Bulk {
+            feed_cell: t.feed_cell,
+            underflow_velocity: speed.unwrap_or(p.underflow_velocity()),
+            overflow_velocity: speed.unwrap_or(p.overflow_velocity()),
+            source: sources.iter().sum(),
+        };
+        match &mut self.solver {
+            Solver::Scalar(s) => s.bulk = Some(bulk),
+            Solver::System(s) => {
+                s.bulk = Some(bulk);
+                s.sources = sources;
+            }
+        }
+    }
+
+    /// Move the solids that crossed the boundaries in the last step into
+    /// the ledger (m³ per class).
+    fn book_crossings(&mut self) {
+        let Some(t) = &mut self.thickener else {
+            return;
+        };
+        let a = t.op.area;
+        let scale = |v: Vec<f64>| -> Vec<f64> { v.into_iter().map(|x| x * a).collect() };
+        let (fed, under, over) = match &mut self.solver {
+            Solver::Scalar(s) => {
+                let c = s.take_crossed();
+                (vec![c.fed], vec![c.underflow], vec![c.overflow])
+            }
+            Solver::System(s) => s.take_crossed(),
+        };
+        t.ledger.add(&scale(fed), &scale(under), &scale(over));
     }
 
     /// Run to the end time, or until `stop` is raised (then the record is
@@ -346,17 +495,31 @@ impl ContinuumEngine {
             seed: self.seed,
             engine: "continuum".to_string(),
             resolution: self.cells as u64,
+            outlets: self.thickener.as_ref().map(|t| OutletSeries {
+                feed_level: t.op.feed_level,
+                overflow_level: self.height,
+                blanket_threshold: t.op.blanket_threshold * t.op.mean_density(),
+                samples: t.samples.clone(),
+            }),
         }
     }
 
-    fn take_frame(&self) -> Frame {
+    fn take_frame(&mut self) -> Frame {
         let nz = self.layout.nz();
         let nc = self.classes();
         let mut phi_class = vec![0.0; nc * nz];
         let mut solids = 0.0;
+        let mut inventory = vec![0.0; nc];
+        let mut bottom = vec![0.0; nc];
+        let mut top = vec![0.0; nc];
+        let volume = self.cell_height() * self.layout.area;
         for c in 0..nc {
             let cells = self.cell_profile(c);
-            solids += cells.iter().sum::<f64>();
+            let sum = cells.iter().sum::<f64>();
+            solids += sum;
+            inventory[c] = sum * volume;
+            bottom[c] = cells[0];
+            top[c] = cells[self.cells - 1];
             self.rebin
                 .average(&cells, &mut phi_class[c * nz..(c + 1) * nz]);
         }
@@ -369,8 +532,25 @@ impl ContinuumEngine {
             bed_height: packed as f64 * self.cell_height(),
             solids_volume: solids * self.cell_height() * self.layout.area,
         };
-        frame.interface_height =
-            interface_height(&frame.phi_total(nz), &self.layout.z, self.phi0, self.height);
+        match &mut self.thickener {
+            None => {
+                frame.interface_height =
+                    interface_height(&frame.phi_total(nz), &self.layout.z, self.phi0, self.height);
+            }
+            Some(t) => {
+                // Blanket on the cell profile (finer than the record's slabs).
+                let dz = self.height / self.cells as f64;
+                let centres: Vec<f64> = (0..self.cells).map(|j| (j as f64 + 0.5) * dz).collect();
+                let blanket = blanket_level(&total, &centres, t.op.blanket_threshold, self.height);
+                frame.interface_height = blanket;
+                // The outlets carry the bulk flux of the cell inside them:
+                // C_u = C(floor cell), C_e = C(top cell) (Bürger–Diehl).
+                let sample = t
+                    .ledger
+                    .sample(&t.op, self.time, &inventory, &bottom, &top, blanket);
+                t.samples.push(sample);
+            }
+        }
         frame
     }
 

@@ -44,6 +44,35 @@
 //! above (which only raises it) and leaves the cell below exactly at φmax.
 
 use crate::physics::compression::{self, IntegratedDiffusion, PowerLawStress};
+
+/// Bulk flow and feed of a continuous thickener for the next step (the
+/// Bürger–Diehl zones of [`crate::operation`]): the feed cell takes the
+/// source; the interfaces at and below its bottom face carry the bulk flux
+/// `q_u φ` of the upper state (downward), those at and above its top face
+/// `−q_e φ` of the lower state (upward); the floor passes `q_u φ_0` out
+/// (underflow) and the top `q_e φ_{N−1}` (overflow). Settling and
+/// compression act only across interior interfaces, i.e. inside the vessel.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Bulk {
+    /// Index of the cell that holds the feed level.
+    pub feed_cell: usize,
+    /// q_u = Q_u/A, m/s (downward below the feed).
+    pub underflow_velocity: f64,
+    /// q_e = Q_e/A, m/s (upward above the feed, a positive number).
+    pub overflow_velocity: f64,
+    /// Feed source in the feed cell, volume fraction per second
+    /// (`Q_f φ_f s_i /(A Δz)`, for the class this solver carries).
+    pub source: f64,
+}
+
+/// Solids volume per unit area that crossed the boundaries, accumulated
+/// over steps (m): in with the feed, out at the floor and over the top.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Crossed {
+    pub fed: f64,
+    pub underflow: f64,
+    pub overflow: f64,
+}
 use crate::physics::hindered::HinderedLaw;
 
 /// Points of the grid on `[0, φmax)` used to find the local extrema of `f`
@@ -332,6 +361,10 @@ pub struct ScalarSolver {
     stage2: Vec<f64>,
     /// Interfaces whose flux the packing cap lowered, over the run.
     pub capped: u64,
+    /// Bulk flow and feed (continuous thickener), None for a closed column.
+    pub bulk: Option<Bulk>,
+    /// What crossed the boundaries since the last [`take_crossed`](Self::take_crossed).
+    crossed: Crossed,
 }
 
 impl ScalarSolver {
@@ -361,7 +394,14 @@ impl ScalarSolver {
             stage: vec![0.0; cells],
             stage2: vec![0.0; cells],
             capped: 0,
+            bulk: None,
+            crossed: Crossed::default(),
         }
+    }
+
+    /// The boundary crossings accumulated since the last call (and reset).
+    pub fn take_crossed(&mut self) -> Crossed {
+        std::mem::take(&mut self.crossed)
     }
 
     /// Largest stable step for Courant number `courant`:
@@ -381,7 +421,10 @@ impl ScalarSolver {
             Reconstruction::PiecewiseConstant => 1.0,
             Reconstruction::LimitedLinear => 2.0,
         };
-        let rate = m * self.flux.lipschitz() / self.dz + 2.0 * d / (self.dz * self.dz);
+        let q = self
+            .bulk
+            .map_or(0.0, |b| b.underflow_velocity.max(b.overflow_velocity));
+        let rate = m * (self.flux.lipschitz() + q) / self.dz + 2.0 * d / (self.dz * self.dz);
         if rate > 0.0 {
             courant / rate
         } else {
@@ -396,14 +439,14 @@ impl ScalarSolver {
         let mut stage = std::mem::take(&mut self.stage);
         match self.reconstruction {
             Reconstruction::PiecewiseConstant => {
-                self.euler(&state, dt, &mut stage);
+                self.euler(&state, dt, &mut stage, 1.0);
                 self.phi = stage;
                 self.stage = state;
             }
             Reconstruction::LimitedLinear => {
                 let mut stage2 = std::mem::take(&mut self.stage2);
-                self.euler(&state, dt, &mut stage);
-                self.euler(&stage, dt, &mut stage2);
+                self.euler(&state, dt, &mut stage, 0.5);
+                self.euler(&stage, dt, &mut stage2, 0.5);
                 let mut next = state;
                 for (v, s) in next.iter_mut().zip(&stage2) {
                     *v = guard_rounding(0.5 * (*v + s), self.phi_max);
@@ -436,8 +479,10 @@ impl ScalarSolver {
         }
     }
 
-    /// One forward-Euler stage `out = state + Δt L(state)` (module docs).
-    fn euler(&mut self, state: &[f64], dt: f64, out: &mut [f64]) {
+    /// One forward-Euler stage `out = state + Δt L(state)` (module docs);
+    /// `weight` is the stage's share in the step (1 for Euler, ½ for each
+    /// SSP-RK2 stage), for the boundary bookkeeping.
+    fn euler(&mut self, state: &[f64], dt: f64, out: &mut [f64], weight: f64) {
         let n = state.len();
         self.reconstruct(state);
         if let Some(d) = &self.diffusion {
@@ -445,9 +490,19 @@ impl ScalarSolver {
                 *a = d.integrated(phi);
             }
         }
-        self.fluxes[0] = 0.0;
-        self.fluxes[n] = 0.0;
         let lambda = dt / self.dz;
+        let (feed_cell, q_u, q_e, source) = match self.bulk {
+            Some(b) => (
+                b.feed_cell,
+                b.underflow_velocity,
+                b.overflow_velocity,
+                b.source,
+            ),
+            None => (usize::MAX, 0.0, 0.0, 0.0),
+        };
+        // Outlets: only the bulk flow crosses them (upwind: the cell inside).
+        self.fluxes[0] = q_u * state[0];
+        self.fluxes[n] = -q_e * state[n - 1];
         for k in 1..n {
             let (up, lo) = (k, k - 1);
             let mut f = self.flux.godunov(
@@ -460,7 +515,18 @@ impl ScalarSolver {
                 // Depth x points down: −∂A/∂x = (A_above − A_below)/Δz.
                 f += (self.cell_a[up] - self.cell_a[lo]) / self.dz;
             }
-            let room = (self.phi_max - state[lo]) / lambda + self.fluxes[lo];
+            // Bulk flux, upwind: down below the feed cell, up above it.
+            if k <= feed_cell {
+                f += q_u * self.bottom[up];
+            } else {
+                f -= q_e * self.top[lo];
+            }
+            let fed = if lo == feed_cell {
+                source * self.dz
+            } else {
+                0.0
+            };
+            let room = (self.phi_max - state[lo]) / lambda - fed + self.fluxes[lo];
             self.filled[lo] = f >= room;
             if f > room {
                 f = room;
@@ -471,12 +537,20 @@ impl ScalarSolver {
         self.filled[n - 1] = false;
         for j in 0..n {
             out[j] = if self.filled[j] {
-                // φ_j + λ(room − F_j) = φmax in exact arithmetic.
+                // φ_j + λ(room − F_j) + Δt s = φmax in exact arithmetic.
                 self.phi_max
             } else {
-                let v = state[j] + lambda * (self.fluxes[j + 1] - self.fluxes[j]);
+                let mut v = state[j] + lambda * (self.fluxes[j + 1] - self.fluxes[j]);
+                if j == feed_cell {
+                    v += dt * source;
+                }
                 guard_rounding(v, self.phi_max)
             };
+        }
+        if self.bulk.is_some() {
+            self.crossed.fed += weight * dt * source * self.dz;
+            self.crossed.underflow += weight * dt * self.fluxes[0];
+            self.crossed.overflow -= weight * dt * self.fluxes[n];
         }
     }
 }

@@ -100,7 +100,7 @@
 //! first stage; if the second stage's speeds are larger than `1/(2λ)` the
 //! step is redone with the smaller step those speeds allow.
 
-use super::scalar::minmod;
+use super::scalar::{Bulk, minmod};
 use crate::physics::hindered::HinderedLaw;
 use crate::physics::polydisperse::{mlb_slip, return_flow};
 use crate::scenario::resolve::MAX_TOTAL_CLASSES;
@@ -323,6 +323,16 @@ pub struct SystemSolver {
     /// because the second stage needed a smaller step.
     pub capped: u64,
     pub retries: u64,
+    /// Bulk flow and feed (continuous thickener), None for a closed column.
+    /// `bulk.source` is unused here: the per-class sources are in `sources`.
+    pub bulk: Option<Bulk>,
+    /// Feed source per class in the feed cell, volume fraction per second.
+    pub sources: Vec<f64>,
+    /// Per class: solids volume per unit area fed, out at the floor and over
+    /// the top since the last [`take_crossed`](Self::take_crossed), m.
+    crossed_fed: Vec<f64>,
+    crossed_under: Vec<f64>,
+    crossed_over: Vec<f64>,
 }
 
 impl SystemSolver {
@@ -355,7 +365,48 @@ impl SystemSolver {
             scratch: Scratch::new(nc),
             capped: 0,
             retries: 0,
+            bulk: None,
+            sources: vec![0.0; nc],
+            crossed_fed: vec![0.0; nc],
+            crossed_under: vec![0.0; nc],
+            crossed_over: vec![0.0; nc],
         }
+    }
+
+    /// Per class: (fed, underflow, overflow) solids volume per unit area
+    /// since the last call, m (and reset).
+    pub fn take_crossed(&mut self) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+        let z = vec![0.0; self.nc];
+        (
+            std::mem::replace(&mut self.crossed_fed, z.clone()),
+            std::mem::replace(&mut self.crossed_under, z.clone()),
+            std::mem::replace(&mut self.crossed_over, z),
+        )
+    }
+
+    /// Add the upwind bulk flux at every interface and the outlet fluxes
+    /// (the [`Bulk`] rule of the scalar solver, per class, face values of
+    /// the current reconstruction). Returns the largest bulk speed.
+    fn add_bulk(&mut self, state: &[f64]) -> f64 {
+        let Some(b) = self.bulk else {
+            return 0.0;
+        };
+        let (n, nc) = (self.cells, self.nc);
+        let (q_u, q_e) = (b.underflow_velocity, b.overflow_velocity);
+        for i in 0..nc {
+            self.fluxes[i] = q_u * state[i];
+            self.fluxes[n * nc + i] = -q_e * state[(n - 1) * nc + i];
+        }
+        for k in 1..n {
+            for i in 0..nc {
+                self.fluxes[k * nc + i] += if k <= b.feed_cell {
+                    q_u * (state[k * nc + i] - 0.5 * self.slopes[k * nc + i])
+                } else {
+                    -q_e * (state[(k - 1) * nc + i] + 0.5 * self.slopes[(k - 1) * nc + i])
+                };
+            }
+        }
+        q_u.max(q_e)
     }
 
     pub fn classes(&self) -> usize {
@@ -458,7 +509,8 @@ impl SystemSolver {
             }
         }
         self.scratch = w;
-        a_max
+        // Positivity needs λ(a + |q|) ≤ ½ with the upwind bulk flux added.
+        a_max + self.add_bulk(state)
     }
 
     /// The packing cap (module docs), from the floor up, for `state` and
@@ -469,7 +521,11 @@ impl SystemSolver {
             let c = k - 1;
             let total: f64 = state[c * nc..(c + 1) * nc].iter().sum();
             let below: f64 = self.fluxes[c * nc..(c + 1) * nc].iter().sum();
-            let room = (self.phi_max - total) / lambda + below;
+            let fed: f64 = match self.bulk {
+                Some(b) if b.feed_cell == c => self.sources.iter().sum::<f64>() * self.dz,
+                _ => 0.0,
+            };
+            let room = (self.phi_max - total) / lambda - fed + below;
             let h = &mut self.fluxes[k * nc..(k + 1) * nc];
             let (mut pos, mut neg) = (0.0, 0.0);
             for &v in h.iter() {
@@ -500,6 +556,14 @@ impl SystemSolver {
                 out[j * nc + i] = state[j * nc + i]
                     + lambda * (self.fluxes[(j + 1) * nc + i] - self.fluxes[j * nc + i]);
             }
+            if let Some(b) = self.bulk
+                && b.feed_cell == j
+            {
+                let dt = lambda * self.dz;
+                for i in 0..nc {
+                    out[j * nc + i] += dt * self.sources[i];
+                }
+            }
             self.guard_cell(&mut out[j * nc..(j + 1) * nc]);
         }
     }
@@ -528,7 +592,7 @@ impl SystemSolver {
     /// The step that the current state allows at Courant number `courant`
     /// (`λ a_max = courant/2`), or infinity when nothing moves. Leaves the
     /// uncapped fluxes of the current state in the buffers.
-    fn first_stage_step(&mut self, courant: f64) -> f64 {
+    pub fn first_stage_step(&mut self, courant: f64) -> f64 {
         let state = std::mem::take(&mut self.phi);
         let a = self.interface_fluxes(&state);
         self.phi = state;
@@ -543,15 +607,28 @@ impl SystemSolver {
     pub fn step(&mut self, dt_max: f64, courant: f64) -> f64 {
         let mut dt = self.first_stage_step(courant).min(dt_max);
         if !dt.is_finite() {
+            // Nothing moves: only a feed could change the state.
+            if let Some(b) = self.bulk {
+                let j = b.feed_cell;
+                for i in 0..self.nc {
+                    self.phi[j * self.nc + i] += dt_max * self.sources[i];
+                    self.crossed_fed[i] += dt_max * self.sources[i] * self.dz;
+                }
+            }
             return dt_max;
         }
         let state = std::mem::take(&mut self.phi);
         let mut stage = std::mem::take(&mut self.stage);
         let mut stage2 = std::mem::take(&mut self.stage2);
+        let (n, nc) = (self.cells, self.nc);
+        let mut first_under = vec![0.0; nc];
+        let mut first_over = vec![0.0; nc];
         loop {
             let lambda = dt / self.dz;
             // Stage 1 (fluxes of `state` are in the buffers).
             self.cap(&state, lambda);
+            first_under.copy_from_slice(&self.fluxes[..nc]);
+            first_over.copy_from_slice(&self.fluxes[n * nc..]);
             self.apply(&state, lambda, &mut stage);
             // Stage 2.
             let a2 = self.interface_fluxes(&stage);
@@ -564,6 +641,14 @@ impl SystemSolver {
             self.cap(&stage, lambda);
             self.apply(&stage, lambda, &mut stage2);
             break;
+        }
+        if self.bulk.is_some() {
+            // SSP-RK2: the step's boundary flux is the mean of the two stages'.
+            for i in 0..nc {
+                self.crossed_fed[i] += dt * self.sources[i] * self.dz;
+                self.crossed_under[i] += 0.5 * dt * (first_under[i] + self.fluxes[i]);
+                self.crossed_over[i] -= 0.5 * dt * (first_over[i] + self.fluxes[n * nc + i]);
+            }
         }
         let nc = self.nc;
         let mut next = state;

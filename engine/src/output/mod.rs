@@ -45,6 +45,24 @@
 //! | `species_density` | `species` | `kg m-3` | solid density of the species |
 //! | `vessel_area` | scalar | `m2` | horizontal cross-section area of the vessel |
 //!
+//! A **continuous thickener** (`RunRecord::outlets` present) adds the global
+//! attribute `vessel = "thickener"` and these variables (a batch column's
+//! file is unchanged):
+//!
+//! | variable | dimensions | units | meaning |
+//! |---|---|---|---|
+//! | `feed_flow`, `underflow_flow`, `overflow_flow` | `time` | `m3 s-1` | volume flows at the record time |
+//! | `feed_solids_concentration` | `time` | `kg m-3` | solids in the feed |
+//! | `underflow_solids_concentration`, `overflow_solids_concentration` | `time` | `kg m-3` | solids leaving through each outlet |
+//! | `underflow_solids_concentration_by_class`, `overflow_solids_concentration_by_class` | `time, size_class` | `kg m-3` | the same per size class |
+//! | `feed_solids_mass_flow`, `underflow_solids_mass_flow`, `overflow_solids_mass_flow` | `time` | `kg s-1` | flow × concentration |
+//! | `blanket_level` | `time` | `m` | blanket (sludge bed) level above the floor (rule in the `comment` attribute) |
+//! | `cumulative_solids_in`, `cumulative_solids_underflow`, `cumulative_solids_overflow` | `time` | `kg` | solids fed / drawn off since the start |
+//! | `solids_inventory` | `time` | `kg` | solids in the vessel |
+//! | `initial_solids_inventory` | `time` | `kg` | solids in the vessel at the start (constant) |
+//! | `solids_balance_residual` | `time` | `kg` | in − out − (inventory − initial inventory) |
+//! | `feed_level`, `overflow_level` | scalar | `m` | feed level and overflow lip above the floor |
+//!
 //! `time`, `z` and `size_class` are coordinate variables (HDF5 dimension
 //! scales), so xarray and netCDF tools show named dimensions and coordinates.
 //! `species` and `bounds` have no coordinate variable.
@@ -70,6 +88,12 @@
 //! `# run_status: …`, then the header
 //! `time_s,interface_height_m,bed_height_m,solids_volume_m3` and one row per
 //! frame.
+//!
+//! # Outlets CSV (thickeners)
+//!
+//! [`outlets_csv_path`] gives `<stem>.outlets.csv`: the same comment lines,
+//! then [`OUTLETS_CSV_HEADER`] and one row per frame, in SI units named in
+//! the header.
 
 use std::fmt::Write as _;
 use std::fs::{self, File, OpenOptions};
@@ -80,13 +104,20 @@ use std::time::{SystemTime, UNIX_EPOCH};
 
 use netcdf_writer::{NcAttrValue, NcFileBuilder, NcWriteFormat, NcWriteOptions, VariableId};
 
-use crate::record::{Frame, RunRecord};
+use crate::record::{Frame, OutletSample, RunRecord};
 
 /// The CF version the NetCDF layout follows.
 pub const CONVENTIONS: &str = "CF-1.10";
 
 /// Header of the settling-curve CSV (after the `#` comment lines).
 pub const SETTLING_CSV_HEADER: &str = "time_s,interface_height_m,bed_height_m,solids_volume_m3";
+
+/// Header of the outlets CSV of a thickener run.
+pub const OUTLETS_CSV_HEADER: &str = "time_s,feed_flow_m3_s,underflow_flow_m3_s,overflow_flow_m3_s,\
+feed_solids_kg_m3,underflow_solids_kg_m3,overflow_solids_kg_m3,\
+feed_solids_rate_kg_s,underflow_solids_rate_kg_s,overflow_solids_rate_kg_s,\
+blanket_level_m,solids_in_kg,solids_out_underflow_kg,solids_out_overflow_kg,\
+solids_inventory_kg,balance_residual_kg";
 
 /// Deflate level of the profile variables (after byte shuffling): a middle
 /// setting; 200 frames × 12 classes × 200 slabs write in about 0.1 s.
@@ -153,6 +184,30 @@ pub fn write_settling_csv(record: &RunRecord, path: &Path) -> Result<(), OutputE
     })
 }
 
+/// Write the outlets of a thickener run as CSV at `path`, atomically (does
+/// nothing for a batch record).
+pub fn write_outlets_csv(record: &RunRecord, path: &Path) -> Result<(), OutputError> {
+    let Some(text) = outlets_csv_text(record) else {
+        return Ok(());
+    };
+    write_atomically(path, |w| {
+        w.write_all(text.as_bytes())
+            .map_err(|source| OutputError::Io {
+                path: path.to_path_buf(),
+                source,
+            })
+    })
+}
+
+/// `<stem>.outlets.csv` beside the NetCDF file.
+pub fn outlets_csv_path(h5_path: &Path) -> PathBuf {
+    let stem = h5_path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".to_owned());
+    h5_path.with_file_name(format!("{stem}.outlets.csv"))
+}
+
 /// Where the settling-curve CSV goes for a NetCDF file: `<stem>.settling.csv`
 /// in the same directory (`out/run.nc` → `out/run.settling.csv`).
 pub fn settling_csv_path(h5_path: &Path) -> PathBuf {
@@ -201,6 +256,22 @@ fn check_record(record: &RunRecord) -> Result<(), String> {
         return Err(format!(
             "class_species refers to species {s}, but there are {ns}"
         ));
+    }
+    if let Some(o) = &record.outlets {
+        if o.samples.len() != record.frames.len() {
+            return Err(format!(
+                "{} outlet samples for {} frames",
+                o.samples.len(),
+                record.frames.len()
+            ));
+        }
+        for (i, s) in o.samples.iter().enumerate() {
+            if s.underflow_concentration_by_class.len() != nc
+                || s.overflow_concentration_by_class.len() != nc
+            {
+                return Err(format!("outlet sample {i} does not have {nc} classes"));
+            }
+        }
     }
     for (i, f) in record.frames.iter().enumerate() {
         if f.phi_class.len() != nc * nz {
@@ -403,6 +474,157 @@ fn build_netcdf(record: &RunRecord, created: &str) -> netcdf_writer::Result<NcFi
         b.write_variable(v, &values)?;
     }
 
+    if let Some(o) = &record.outlets {
+        b.add_attribute("vessel", text("thickener"))?;
+        type OutSeries = (
+            &'static str,
+            &'static str,
+            &'static str,
+            fn(&OutletSample) -> f64,
+        );
+        let series: [OutSeries; 16] = [
+            ("feed_flow", "m3 s-1", "feed volume flow", |s| s.feed_flow),
+            ("underflow_flow", "m3 s-1", "underflow volume flow", |s| {
+                s.underflow_flow
+            }),
+            (
+                "overflow_flow",
+                "m3 s-1",
+                "overflow (effluent) volume flow",
+                |s| s.overflow_flow,
+            ),
+            (
+                "feed_solids_concentration",
+                "kg m-3",
+                "solids mass per volume of feed",
+                |s| s.feed_concentration,
+            ),
+            (
+                "underflow_solids_concentration",
+                "kg m-3",
+                "solids mass per volume of underflow",
+                |s| s.underflow_concentration,
+            ),
+            (
+                "overflow_solids_concentration",
+                "kg m-3",
+                "solids mass per volume of overflow",
+                |s| s.overflow_concentration,
+            ),
+            (
+                "feed_solids_mass_flow",
+                "kg s-1",
+                "solids mass flow in the feed",
+                |s| s.feed_solids_rate,
+            ),
+            (
+                "underflow_solids_mass_flow",
+                "kg s-1",
+                "solids mass flow in the underflow",
+                |s| s.underflow_solids_rate,
+            ),
+            (
+                "overflow_solids_mass_flow",
+                "kg s-1",
+                "solids mass flow in the overflow",
+                |s| s.overflow_solids_rate,
+            ),
+            (
+                "blanket_level",
+                "m",
+                "blanket (sludge bed) level above the vessel floor",
+                |s| s.blanket_level,
+            ),
+            (
+                "cumulative_solids_in",
+                "kg",
+                "solids fed since the start of the run",
+                |s| s.solids_in,
+            ),
+            (
+                "cumulative_solids_underflow",
+                "kg",
+                "solids drawn off in the underflow since the start of the run",
+                |s| s.solids_out_underflow,
+            ),
+            (
+                "cumulative_solids_overflow",
+                "kg",
+                "solids lost in the overflow since the start of the run",
+                |s| s.solids_out_overflow,
+            ),
+            ("solids_inventory", "kg", "solids mass in the vessel", |s| {
+                s.inventory
+            }),
+            (
+                "solids_balance_residual",
+                "kg",
+                "solids fed minus solids out minus the change of the inventory",
+                |s| s.balance_residual,
+            ),
+            (
+                "initial_solids_inventory",
+                "kg",
+                "solids mass in the vessel at the start",
+                |s| s.initial_inventory,
+            ),
+        ];
+        for (name, units, long_name, get) in series {
+            let v = b.add_variable::<f64>(name, &[time])?;
+            let comment = format!(
+                "the highest point, scanning down from the overflow lip, where the solids concentration reaches {} kg m-3",
+                o.blanket_threshold
+            );
+            let extra: Vec<(&str, &str)> = if name == "blanket_level" {
+                vec![("comment", comment.as_str())]
+            } else {
+                Vec::new()
+            };
+            describe(&mut b, v, units, long_name, &extra)?;
+            let values: Vec<f64> = o.samples.iter().map(get).collect();
+            b.write_variable(v, &values)?;
+        }
+        type ClassSeries = (&'static str, &'static str, fn(&OutletSample) -> &[f64]);
+        let by_class: [ClassSeries; 2] = [
+            (
+                "underflow_solids_concentration_by_class",
+                "solids mass per volume of underflow, per size class",
+                |s| &s.underflow_concentration_by_class,
+            ),
+            (
+                "overflow_solids_concentration_by_class",
+                "solids mass per volume of overflow, per size class",
+                |s| &s.overflow_concentration_by_class,
+            ),
+        ];
+        for (name, long_name, get) in by_class {
+            let v = b.add_variable::<f64>(name, &[time, class])?;
+            describe(&mut b, v, "kg m-3", long_name, &[])?;
+            let values: Vec<f64> = o
+                .samples
+                .iter()
+                .flat_map(|s| get(s).iter().copied())
+                .collect();
+            b.write_variable(v, &values)?;
+        }
+        for (name, long_name, value) in [
+            (
+                "feed_level",
+                "height of the feed above the vessel floor",
+                o.feed_level,
+            ),
+            (
+                "overflow_level",
+                "height of the overflow lip above the vessel floor",
+                o.overflow_level,
+            ),
+        ] {
+            let v = b.add_variable::<f64>(name, &[])?;
+            describe(&mut b, v, "m", long_name, &[])?;
+            b.write_variable(v, &[value])?;
+        }
+    }
+
     // Grid and class tables.
     let v = b.add_variable::<f64>("z_bounds", &[z, bounds])?;
     describe(&mut b, v, "m", "lower and upper boundary of each slab", &[])?;
@@ -489,6 +711,45 @@ fn settling_csv_text(record: &RunRecord) -> String {
         );
     }
     s
+}
+
+/// The outlets CSV text, None for a batch record.
+fn outlets_csv_text(record: &RunRecord) -> Option<String> {
+    let o = record.outlets.as_ref()?;
+    let mut s = String::new();
+    let title = record.title.replace(['\r', '\n'], " ");
+    let _ = writeln!(s, "# title: {title}");
+    let _ = writeln!(s, "# source: {}", source_text());
+    let _ = writeln!(s, "# run_status: {}", record.status.as_str());
+    let _ = writeln!(
+        s,
+        "# feed level {} m, overflow lip {} m above the floor; blanket threshold {} kg/m3",
+        o.feed_level, o.overflow_level, o.blanket_threshold
+    );
+    let _ = writeln!(s, "{OUTLETS_CSV_HEADER}");
+    for x in &o.samples {
+        let row = [
+            x.time,
+            x.feed_flow,
+            x.underflow_flow,
+            x.overflow_flow,
+            x.feed_concentration,
+            x.underflow_concentration,
+            x.overflow_concentration,
+            x.feed_solids_rate,
+            x.underflow_solids_rate,
+            x.overflow_solids_rate,
+            x.blanket_level,
+            x.solids_in,
+            x.solids_out_underflow,
+            x.solids_out_overflow,
+            x.inventory,
+            x.balance_residual,
+        ];
+        let cells: Vec<String> = row.iter().map(|&v| csv_number(v)).collect();
+        let _ = writeln!(s, "{}", cells.join(","));
+    }
+    Some(s)
 }
 
 /// Shortest text that reads back to the same f64; exponent form for very

@@ -82,6 +82,7 @@ fn sample(status: RunStatus) -> RunRecord {
         seed: u64::MAX - 7,
         engine: "particle".into(),
         resolution: 40_000,
+        outlets: None,
     }
 }
 
@@ -519,4 +520,123 @@ fn records_with_mismatched_tables_are_refused() {
     let msg = write_netcdf(&r, path).unwrap_err().to_string();
     assert!(msg.contains("z_edges has 4 entries, expected 5"), "{msg}");
     assert!(!path.exists());
+}
+
+/// The sample record as a thickener run: one outlet sample per frame.
+fn thickener_sample() -> RunRecord {
+    let mut r = sample(RunStatus::Complete);
+    let samples = r
+        .frames
+        .iter()
+        .enumerate()
+        .map(|(i, f)| crate::record::OutletSample {
+            time: f.time,
+            feed_flow: 0.1,
+            underflow_flow: 0.03,
+            overflow_flow: 0.07,
+            feed_concentration: 3.0,
+            underflow_concentration: 9.0 + i as f64,
+            overflow_concentration: 0.01 * i as f64,
+            underflow_concentration_by_class: vec![4.0, 5.0 + i as f64],
+            overflow_concentration_by_class: vec![0.01 * i as f64, 0.0],
+            feed_solids_rate: 0.3,
+            underflow_solids_rate: 0.03 * (9.0 + i as f64),
+            overflow_solids_rate: 0.07 * 0.01 * i as f64,
+            blanket_level: 0.1 * i as f64,
+            solids_in: 9.0 * i as f64,
+            solids_out_underflow: 8.0 * i as f64,
+            solids_out_overflow: 0.5 * i as f64,
+            inventory: 2.0 + 0.5 * i as f64,
+            initial_inventory: 2.0,
+            balance_residual: 1e-13 * i as f64,
+        })
+        .collect();
+    r.outlets = Some(crate::record::OutletSeries {
+        feed_level: 0.25,
+        overflow_level: 0.4,
+        blanket_threshold: 4.0,
+        samples,
+    });
+    r
+}
+
+#[test]
+fn thickener_outlets_are_written_as_time_series_with_units() {
+    let scratch = Scratch::new("outlets");
+    let path = scratch.0.join("tank.nc");
+    let record = thickener_sample();
+    write_netcdf(&record, &path).unwrap();
+    let f = NcFile::open(&path).unwrap();
+    assert_eq!(attr_text(&f, "vessel"), "thickener");
+    let o = record.outlets.as_ref().unwrap();
+    for (name, units, want) in [
+        (
+            "underflow_solids_concentration",
+            "kg m-3",
+            o.samples
+                .iter()
+                .map(|s| s.underflow_concentration)
+                .collect::<Vec<_>>(),
+        ),
+        (
+            "overflow_solids_mass_flow",
+            "kg s-1",
+            o.samples.iter().map(|s| s.overflow_solids_rate).collect(),
+        ),
+        (
+            "blanket_level",
+            "m",
+            o.samples.iter().map(|s| s.blanket_level).collect(),
+        ),
+        (
+            "solids_balance_residual",
+            "kg",
+            o.samples.iter().map(|s| s.balance_residual).collect(),
+        ),
+        ("feed_flow", "m3 s-1", vec![0.1; NT]),
+    ] {
+        assert_eq!(dims(&f, name), vec!["time"], "{name}");
+        assert_eq!(
+            var_attr_text(&f, name, "units").as_deref(),
+            Some(units),
+            "{name}"
+        );
+        assert!(var_attr_text(&f, name, "long_name").is_some(), "{name}");
+        let (shape, got) = read_f64(&f, name);
+        assert_eq!(shape, vec![NT]);
+        assert_close(&got, &want, name);
+    }
+    let (shape, got) = read_f64(&f, "underflow_solids_concentration_by_class");
+    assert_eq!(shape, vec![NT, NC]);
+    assert_close(&got[2..4], &[4.0, 6.0], "by class, frame 1");
+    let (_, lip) = read_f64(&f, "overflow_level");
+    assert_eq!(lip, vec![0.4]);
+    // A batch record has none of it.
+    let batch = scratch.0.join("batch.nc");
+    write_netcdf(&sample(RunStatus::Complete), &batch).unwrap();
+    let f = NcFile::open(&batch).unwrap();
+    assert!(f.variable("blanket_level").is_err());
+    assert!(f.global_attribute("vessel").is_err());
+}
+
+#[test]
+fn outlets_csv_has_one_row_per_frame() {
+    let scratch = Scratch::new("outlets-csv");
+    let nc = scratch.0.join("tank.nc");
+    let csv = outlets_csv_path(&nc);
+    assert_eq!(csv.file_name().unwrap(), "tank.outlets.csv");
+    write_outlets_csv(&thickener_sample(), &csv).unwrap();
+    let text = fs::read_to_string(&csv).unwrap();
+    let rows: Vec<&str> = text.lines().filter(|l| !l.starts_with('#')).collect();
+    assert_eq!(rows[0], OUTLETS_CSV_HEADER);
+    assert_eq!(rows.len(), NT + 1);
+    let cols = OUTLETS_CSV_HEADER.split(',').count();
+    assert!(rows.iter().all(|r| r.split(',').count() == cols));
+    // Row of frame 2: time 60 s, underflow 11 kg/m³.
+    let cells: Vec<f64> = rows[3].split(',').map(|c| c.parse().unwrap()).collect();
+    assert_eq!((cells[0], cells[5]), (60.0, 11.0));
+    // Nothing is written for a batch record.
+    let none = scratch.0.join("batch.outlets.csv");
+    write_outlets_csv(&sample(RunStatus::Complete), &none).unwrap();
+    assert!(!none.exists());
 }

@@ -206,9 +206,39 @@ impl Kernel {
     /// Fraction of the kernel at (x, y, z), looking down or up, that lies
     /// inside the liquid.
     pub fn inside_fraction(&self, x: f64, y: f64, z: f64, up: bool) -> f64 {
-        let room = if up { self.top - z } else { z };
-        let vertical = k1_integral((room / self.window_height).clamp(0.0, 1.0));
+        let vertical = k1_integral(self.window_inside(z, up) / self.window_height);
         vertical * self.horizontal_fraction(x, y)
+    }
+
+    /// Length of the window at height z, looking down or up, that lies
+    /// inside the liquid, m: the window height b away from the floor and the
+    /// free surface, less near them.
+    #[inline]
+    pub fn window_inside(&self, z: f64, up: bool) -> f64 {
+        let room = if up { self.top - z } else { z };
+        room.clamp(0.0, self.window_height)
+    }
+
+    /// Height from which a window looking down or up keeps at least
+    /// `min_length` (≤ b) inside the liquid: z itself away from the floor and
+    /// the free surface; near them, the height `min_length` above the floor
+    /// (or below the surface), so that the window then covers the liquid
+    /// nearest the boundary, the parcel included.
+    #[inline]
+    pub fn window_anchor(&self, z: f64, up: bool, min_length: f64) -> f64 {
+        if up {
+            z.min(self.top - min_length)
+        } else {
+            z.max(min_length)
+        }
+    }
+
+    /// Height of the middle of the liquid part of the window at `anchor`
+    /// looking down or up, m.
+    #[inline]
+    pub fn window_centre(&self, anchor: f64, up: bool) -> f64 {
+        let half = 0.5 * self.window_inside(anchor, up);
+        if up { anchor + half } else { anchor - half }
     }
 
     fn horizontal_fraction(&self, x: f64, y: f64) -> f64 {

@@ -10,6 +10,7 @@ pub mod neighbours;
 pub mod pipeline;
 pub mod random;
 
+use crate::physics::compression::PowerLawStress;
 use crate::record::{RecordLayout, RunRecord, RunStatus};
 use crate::scenario::Setup;
 use bevy_ecs::prelude::*;
@@ -98,11 +99,22 @@ pub fn parcels_per_class(shares: &[f64], total: u64) -> Vec<u64> {
 
 impl ParticleEngine {
     /// Build the world for `setup`; `threads` sizes the pool for the hot loops.
+    ///
+    /// Refuses (`EngineError::Unsupported`) bed compression together with
+    /// several size classes, which this engine does not model.
     pub fn new(setup: &Setup, scenario_yaml: &str, threads: usize) -> Result<Self, EngineError> {
-        if setup.compression.is_some() {
+        if setup.compression.is_some() && setup.classes.len() > 1 {
             return Err(EngineError::Unsupported(
-                "the particle engine does not model bed compression yet (`models.compression`); \
-                 remove it, or run the scenario with `run: { engine: continuum }`"
+                "the particle engine models bed compression for one size class only \
+                 (`models.compression` with several classes); remove it, or describe the \
+                 solids by one size"
+                    .to_string(),
+            ));
+        }
+        if setup.thickener.is_some() {
+            return Err(EngineError::Unsupported(
+                "the particle engine does not run continuous thickeners yet; \
+                 run the scenario with `run: { engine: continuum }`"
                     .to_string(),
             ));
         }
@@ -146,6 +158,7 @@ impl ParticleEngine {
                     Slip::default(),
                     TargetVelocity::default(),
                     Resting(false),
+                    Consolidation::default(),
                 ));
                 id += 1;
             }
@@ -212,10 +225,23 @@ impl ParticleEngine {
             next_record: 1,
             at_record: false,
         });
+        if let Some(c) = setup.compression {
+            let class = &setup.classes[0];
+            world.insert_resource(Network {
+                stress: PowerLawStress {
+                    yield_stress: c.yield_stress,
+                    gel_point: c.gel_point,
+                    exponent: c.exponent,
+                },
+                weight: (setup.species[class.species].density - setup.fluid.density)
+                    * setup.gravity,
+            });
+        }
         world.insert_resource(Bed {
             volume: 0.0,
             area,
             max_packing: setup.max_packing,
+            gel_point: setup.compression.map(|c| c.gel_point),
         });
         world.insert_resource(StageTimes::default());
         world.insert_resource(Recorder {
@@ -232,6 +258,7 @@ impl ParticleEngine {
                 sample_concentration,
                 slip_velocities,
                 mixture_correction,
+                network_stress,
                 choose_time_step,
                 integrate,
                 walls_floor_packing,
@@ -309,6 +336,7 @@ impl ParticleEngine {
             seed: self.seed,
             engine: "particle".to_string(),
             resolution: self.parcels,
+            outlets: None,
         }
     }
 
@@ -360,6 +388,7 @@ impl ParticleEngine {
             + size_of::<Slip>()
             + size_of::<TargetVelocity>()
             + size_of::<Resting>()
+            + size_of::<Consolidation>()
             // search copy: scaled position, class, volume, cell, order
             + 24 + 2 + 8 + 4 + 4
     }

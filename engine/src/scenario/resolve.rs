@@ -7,6 +7,7 @@ use super::locate::Locations;
 use super::spec::*;
 pub use super::spec::{EngineSpec, SearchSpec};
 use super::units::Loading;
+use crate::operation::{Operation, Schedule, Underflow};
 use crate::physics::drag::DragLaw;
 use crate::physics::hindered::{ExponentRule, HinderedLaw};
 use crate::physics::terminal::{Terminal, relaxation_time, terminal_velocity};
@@ -64,7 +65,7 @@ pub struct SizeClass {
     pub exponent: f64,
 }
 
-/// The batch column.
+/// The batch column, or the tank of a thickener.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Column {
     /// Fill height, m.
@@ -165,6 +166,11 @@ pub struct Setup {
     pub hindered: HinderedChoice,
     /// Bed compression, if the scenario gives it.
     pub compression: Option<Compression>,
+    /// Feed, outlets and flows of a continuous thickener (None for a batch
+    /// column). The tank's height and cross-section are in `column`
+    /// (height = floor to overflow lip); `initial_volume_fraction` is the
+    /// tank's content at the start (0 = clear liquid).
+    pub thickener: Option<Operation>,
     /// Which engine runs the scenario.
     pub engine: EngineSpec,
     pub run: RunControl,
@@ -355,63 +361,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
     };
 
     // Vessel.
-    let column = match &spec.vessel {
-        VesselSpec::Column {
-            height,
-            cross_section,
-        } => {
-            ck.positive("vessel.column.height", height.si(), "column height", "m");
-            let (area, wall_diameter, description, shape) = match cross_section {
-                CrossSectionSpec::Round { diameter } => {
-                    let d = diameter.si();
-                    ck.positive(
-                        "vessel.column.cross_section.round.diameter",
-                        d,
-                        "column diameter",
-                        "m",
-                    );
-                    (
-                        std::f64::consts::PI / 4.0 * d * d,
-                        d,
-                        format!("round, {:.1} mm diameter", d * 1e3),
-                        ColumnShape::Round { diameter: d },
-                    )
-                }
-                CrossSectionSpec::Rectangular { width, depth } => {
-                    let (w, dp) = (width.si(), depth.si());
-                    ck.positive(
-                        "vessel.column.cross_section.rectangular.width",
-                        w,
-                        "column width",
-                        "m",
-                    );
-                    ck.positive(
-                        "vessel.column.cross_section.rectangular.depth",
-                        dp,
-                        "column depth",
-                        "m",
-                    );
-                    (
-                        w * dp,
-                        2.0 * w * dp / (w + dp),
-                        format!("rectangular, {:.1} × {:.1} mm", w * 1e3, dp * 1e3),
-                        ColumnShape::Rectangular {
-                            width: w,
-                            depth: dp,
-                        },
-                    )
-                }
-            };
-            Column {
-                height: height.si(),
-                area,
-                wall_diameter,
-                description,
-                shape,
-            }
-        }
-    };
-
+    let (column, thickener_geometry) = vessel(&mut ck, &spec.vessel);
     // Models.
     let max_packing = spec.models.max_packing;
     if !(max_packing > 0.0 && max_packing <= MAX_PACKING_LIMIT) {
@@ -688,23 +638,35 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
     }
     let rho_s_mean: f64 = species.iter().map(|s| s.volume_share * s.density).sum();
 
-    // Initial loading as a volume fraction.
-    let phi0 = match spec.initial.loading {
-        Loading::VolumeFraction(v) => v,
-        Loading::MassConcentration(c) => c / rho_s_mean,
-        Loading::MassFraction(w) => {
-            if !(0.0..1.0).contains(&w) {
-                f64::NAN
-            } else {
-                (w / rho_s_mean) / (w / rho_s_mean + (1.0 - w) / fluid.density)
-            }
+    // Initial loading as a volume fraction: required for a column; a
+    // thickener starts with clear liquid unless told otherwise.
+    let continuous = thickener_geometry.is_some();
+    let phi0 = match &spec.initial {
+        Some(init) => loading_fraction(init.loading, rho_s_mean, fluid.density),
+        None if continuous => 0.0,
+        None => {
+            ck.refuse(
+                "initial",
+                "a batch column needs its initial loading",
+                "add `initial: { loading: \"10 vol%\" }`",
+            );
+            0.0
         }
     };
     if ck.problems.is_empty() {
-        if !(phi0.is_finite() && phi0 > 0.0) {
+        let low = if continuous {
+            !(phi0.is_finite() && phi0 >= 0.0)
+        } else {
+            !(phi0.is_finite() && phi0 > 0.0)
+        };
+        if low {
             ck.refuse(
                 "initial.loading",
-                "the solids loading must be positive (and a mass fraction below 100 %)",
+                if continuous {
+                    "the initial solids loading cannot be negative (and a mass fraction must be below 100 %)"
+                } else {
+                    "the solids loading must be positive (and a mass fraction below 100 %)"
+                },
                 "write e.g. \"8 vol%\", \"25 wt%\" or \"120 g/L\"",
             );
         } else if phi0 >= max_packing {
@@ -720,6 +682,36 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         }
     }
 
+    // Continuous operation.
+    let mut thickener = match (&spec.operation, thickener_geometry) {
+        (Some(op), Some(geometry)) => operation(
+            &mut ck,
+            op,
+            &column,
+            geometry,
+            (rho_s_mean, fluid.density),
+            max_packing,
+            spec.run.end_time.si(),
+        ),
+        (None, Some(_)) => {
+            ck.refuse(
+                "vessel.thickener",
+                "a thickener needs its feed and underflow under `operation`",
+                "add `operation: { feed_flow: \"450 m³/h\", feed_solids: \"3.5 g/L\", underflow: { ratio: 0.4 } }`",
+            );
+            None
+        }
+        (Some(_), None) => {
+            ck.refuse(
+                "operation",
+                "a batch column has no feed or outlets, so `operation` does not apply",
+                "remove `operation`, or describe the vessel as `thickener:`",
+            );
+            None
+        }
+        (None, None) => None,
+    };
+
     let hindered = match hindered {
         HinderedChoice::Takacs {
             v0_max,
@@ -732,8 +724,11 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
             v0,
             r_hindered,
             r_flocculant,
-            // C_min = f_ns × feed concentration; in a batch column the feed is the initial suspension.
-            min_concentration: fns * phi0 * rho_s_mean,
+            // C_min = f_ns × feed concentration; in a batch column the feed
+            // is the initial suspension, in a thickener the feed at the start.
+            min_concentration: fns
+                * thickener.as_ref().map_or(phi0, |op| op.feed_solids.at(0.0))
+                * rho_s_mean,
         },
         other => other,
     };
@@ -947,6 +942,10 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         return Err(ck.problems);
     }
     range_warnings(&mut ck, &spec.models.drag, &classes, &column);
+    if let Some(op) = &mut thickener {
+        op.feed_class_share = classes.iter().map(|c| c.volume_share).collect();
+        op.class_density = classes.iter().map(|c| species[c.species].density).collect();
+    }
 
     Ok(Setup {
         title: spec.title.clone().unwrap_or_default(),
@@ -961,6 +960,7 @@ pub fn resolve(spec: &ScenarioSpec, locs: &Locations) -> Result<Setup, Vec<Probl
         max_packing,
         hindered,
         compression,
+        thickener,
         engine: spec.run.engine,
         run,
         numerics,
@@ -1229,4 +1229,386 @@ fn range_warnings(ck: &mut Checker, choice: &DragSpec, classes: &[SizeClass], co
             format!("the largest particles are {:.1} % of the column width; wall effects exceed the range Richardson–Zaki covered (d/D ≤ 0.04)", d_over_d * 100.0),
         );
     }
+}
+
+/// Feed level of a thickener, m above the floor (the rest of its geometry
+/// is in [`Column`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct ThickenerGeometry {
+    feed_level: f64,
+}
+
+/// The vessel's geometry: a [`Column`] for both kinds (for a thickener its
+/// height is floor to overflow lip), plus the feed level of a thickener.
+fn vessel(ck: &mut Checker, spec: &VesselSpec) -> (Column, Option<ThickenerGeometry>) {
+    match spec {
+        VesselSpec::Column {
+            height,
+            cross_section,
+        } => {
+            ck.positive("vessel.column.height", height.si(), "column height", "m");
+            let (area, wall_diameter, description, shape) = match cross_section {
+                CrossSectionSpec::Round { diameter } => {
+                    round(ck, "vessel.column.cross_section", diameter.si(), "column")
+                }
+                CrossSectionSpec::Rectangular { width, depth } => rectangular(
+                    ck,
+                    "vessel.column.cross_section",
+                    width.si(),
+                    depth.si(),
+                    "column",
+                ),
+            };
+            (
+                Column {
+                    height: height.si(),
+                    area,
+                    wall_diameter,
+                    description,
+                    shape,
+                },
+                None,
+            )
+        }
+        VesselSpec::Thickener {
+            height,
+            feed_level,
+            cross_section,
+        } => {
+            let key = "vessel.thickener";
+            let h = height.si();
+            let zf = feed_level.si();
+            let ok = ck.positive(&format!("{key}.height"), h, "thickener height", "m");
+            if ck.positive(&format!("{key}.feed_level"), zf, "feed level", "m") && ok && zf >= h {
+                ck.refuse(
+                    &format!("{key}.feed_level"),
+                    format!(
+                        "the feed level ({zf} m above the floor) must lie inside the vessel, below the overflow lip at {h} m"
+                    ),
+                    "give the height of the feed well outlet above the floor, between 0 and `height`",
+                );
+            }
+            let sk = format!("{key}.cross_section");
+            let (area, wall_diameter, description, shape) = match cross_section {
+                TankSectionSpec::Round { diameter } => round(ck, &sk, diameter.si(), "tank"),
+                TankSectionSpec::Rectangular { width, depth } => {
+                    rectangular(ck, &sk, width.si(), depth.si(), "tank")
+                }
+                TankSectionSpec::Area(a) => {
+                    let a = a.si();
+                    ck.positive(&format!("{sk}.area"), a, "tank area", "m²");
+                    // Only the area matters to a 1-D model; a round tank of
+                    // that area stands in wherever a shape is needed.
+                    let d = (4.0 * a.max(0.0) / std::f64::consts::PI).sqrt();
+                    (
+                        a,
+                        d,
+                        format!(
+                            "area {a:.4} m² (round tank of {d:.3} m diameter assumed for shape)"
+                        ),
+                        ColumnShape::Round { diameter: d },
+                    )
+                }
+            };
+            (
+                Column {
+                    height: h,
+                    area,
+                    wall_diameter,
+                    description,
+                    shape,
+                },
+                Some(ThickenerGeometry { feed_level: zf }),
+            )
+        }
+    }
+}
+
+fn round(ck: &mut Checker, key: &str, d: f64, what: &str) -> (f64, f64, String, ColumnShape) {
+    ck.positive(
+        &format!("{key}.round.diameter"),
+        d,
+        &format!("{what} diameter"),
+        "m",
+    );
+    let description = if d >= 2.0 {
+        format!("round, {d:.2} m diameter")
+    } else {
+        format!("round, {:.1} mm diameter", d * 1e3)
+    };
+    (
+        std::f64::consts::PI / 4.0 * d * d,
+        d,
+        description,
+        ColumnShape::Round { diameter: d },
+    )
+}
+
+fn rectangular(
+    ck: &mut Checker,
+    key: &str,
+    w: f64,
+    dp: f64,
+    what: &str,
+) -> (f64, f64, String, ColumnShape) {
+    ck.positive(
+        &format!("{key}.rectangular.width"),
+        w,
+        &format!("{what} width"),
+        "m",
+    );
+    ck.positive(
+        &format!("{key}.rectangular.depth"),
+        dp,
+        &format!("{what} depth"),
+        "m",
+    );
+    let description = if w.max(dp) >= 2.0 {
+        format!("rectangular, {w:.2} × {dp:.2} m")
+    } else {
+        format!("rectangular, {:.1} × {:.1} mm", w * 1e3, dp * 1e3)
+    };
+    (
+        w * dp,
+        2.0 * w * dp / (w + dp),
+        description,
+        ColumnShape::Rectangular {
+            width: w,
+            depth: dp,
+        },
+    )
+}
+
+/// A solids loading as a volume fraction (NaN for a mass fraction outside [0, 1)).
+fn loading_fraction(loading: Loading, rho_s_mean: f64, rho_f: f64) -> f64 {
+    match loading {
+        Loading::VolumeFraction(v) => v,
+        Loading::MassConcentration(c) => c / rho_s_mean,
+        Loading::MassFraction(w) => {
+            if !(0.0..1.0).contains(&w) {
+                f64::NAN
+            } else {
+                (w / rho_s_mean) / (w / rho_s_mean + (1.0 - w) / rho_f)
+            }
+        }
+    }
+}
+
+/// Check a schedule's times and convert it; `value` converts (and checks)
+/// one value given its key. None if a time is wrong.
+fn schedule<T: Clone>(
+    ck: &mut Checker,
+    key: &str,
+    spec: &Scheduled<T>,
+    mut value: impl FnMut(&mut Checker, &str, &T) -> f64,
+) -> Option<Schedule> {
+    let rows = |ck: &mut Checker,
+                kind: &str,
+                rows: &[ScheduleRow<T>],
+                value: &mut dyn FnMut(&mut Checker, &str, &T) -> f64| {
+        let k = format!("{key}.{kind}");
+        if rows.is_empty() {
+            ck.refuse(
+                &k,
+                "a schedule needs at least one row",
+                "e.g. `- { at: \"0 h\", value: ... }`",
+            );
+            return None;
+        }
+        let mut out = Vec::with_capacity(rows.len());
+        let mut ok = true;
+        for (i, r) in rows.iter().enumerate() {
+            let t = r.at.si();
+            let tk = format!("{k}[{i}].at");
+            if !(t.is_finite() && t >= 0.0) {
+                ck.refuse(
+                    &tk,
+                    format!("schedule times count from the start of the run and cannot be negative, found {t} s"),
+                    "write times since the start, e.g. \"0 h\", \"6 h\"",
+                );
+                ok = false;
+            } else if let Some(&(prev, _)) = out.last()
+                && t <= prev
+            {
+                ck.refuse(
+                    &tk,
+                    format!("schedule times must increase from row to row: {t} s follows {prev} s"),
+                    "list the rows in order of time, each time once",
+                );
+                ok = false;
+            }
+            let v = value(ck, &format!("{k}[{i}].value"), &r.value);
+            out.push((t, v));
+        }
+        ok.then_some(out)
+    };
+    match spec {
+        Scheduled::Constant(v) => Some(Schedule::Constant(value(ck, key, v))),
+        Scheduled::Steps(r) => rows(ck, "steps", r, &mut value).map(Schedule::Steps),
+        Scheduled::Table(r) => rows(ck, "table", r, &mut value).map(Schedule::Table),
+        Scheduled::Ramp(r) => {
+            let k = format!("{key}.ramp");
+            let (t0, t1) = (r.start.si(), r.end.si());
+            let a = value(ck, &format!("{k}.from"), &r.from);
+            let b = value(ck, &format!("{k}.to"), &r.to);
+            if !(t0.is_finite() && t0 >= 0.0) {
+                ck.refuse(
+                    &format!("{k}.start"),
+                    format!("the ramp cannot start before the run, found {t0} s"),
+                    "write a time since the start, e.g. \"2 h\"",
+                );
+                return None;
+            }
+            if !(t1.is_finite() && t1 > t0) {
+                ck.refuse(
+                    &format!("{k}.end"),
+                    format!("the ramp must end after it starts ({t0} s), found {t1} s"),
+                    "for a sudden change use `steps`",
+                );
+                return None;
+            }
+            Some(Schedule::Table(vec![(t0, a), (t1, b)]))
+        }
+    }
+}
+
+/// Refuse a negative or non-finite value; returns the value.
+fn non_negative(ck: &mut Checker, key: &str, v: f64, what: &str, unit: &str) -> f64 {
+    if !(v.is_finite() && v >= 0.0) {
+        ck.refuse(
+            key,
+            format!("{what} cannot be negative, found {} {unit}", fmt_si(v)),
+            "check the sign and the unit of this value",
+        );
+    }
+    v
+}
+
+/// Flows and feed of a thickener, checked (volume fractions from the mean
+/// solid density). The class shares and densities are filled in later.
+fn operation(
+    ck: &mut Checker,
+    spec: &OperationSpec,
+    column: &Column,
+    geometry: ThickenerGeometry,
+    (rho_s_mean, rho_f): (f64, f64),
+    max_packing: f64,
+    end_time: f64,
+) -> Option<Operation> {
+    let key = "operation";
+    let to_h = |q: f64| q * 3600.0;
+    let feed_flow = schedule(
+        ck,
+        &format!("{key}.feed_flow"),
+        &spec.feed_flow,
+        |ck, k, q| non_negative(ck, k, q.si(), "the feed flow", "m³/s"),
+    );
+    let feed_solids = schedule(
+        ck,
+        &format!("{key}.feed_solids"),
+        &spec.feed_solids,
+        |ck, k, l| {
+            let phi = loading_fraction(*l, rho_s_mean, rho_f);
+            if !(phi.is_finite() && phi >= 0.0) {
+                ck.refuse(
+                    k,
+                    "the feed solids cannot be negative (and a mass fraction must be below 100 %)",
+                    "write e.g. \"3.5 g/L\", \"2 vol%\" or \"15 wt%\"",
+                );
+            } else if phi >= max_packing {
+                ck.refuse(
+                    k,
+                    format!(
+                        "a feed of {:.2} vol% solids is at or above the maximum packing fraction ({:.2} vol%)",
+                        phi * 100.0,
+                        max_packing * 100.0
+                    ),
+                    "a thickener feed is a dilute slurry: a few g/L to a few hundred g/L",
+                );
+            }
+            phi
+        },
+    );
+    let underflow = match &spec.underflow {
+        UnderflowSpec::Flow(s) => schedule(ck, &format!("{key}.underflow.flow"), s, |ck, k, q| {
+            non_negative(ck, k, q.si(), "the underflow", "m³/s")
+        })
+        .map(Underflow::Flow),
+        UnderflowSpec::Ratio(s) => {
+            schedule(ck, &format!("{key}.underflow.ratio"), s, |ck, k, r| {
+                if !(r.is_finite() && (0.0..1.0).contains(r)) {
+                    ck.refuse(
+                        k,
+                        format!("the underflow/feed ratio must lie in [0, 1), found {r}"),
+                        "the underflow is a part of the feed; the rest leaves over the lip (typically 0.2–0.6)",
+                    );
+                }
+                *r
+            })
+            .map(Underflow::Ratio)
+        }
+    };
+    let threshold = spec.blanket_threshold.map(|c| c.si());
+    if let Some(c) = threshold {
+        ck.positive(
+            &format!("{key}.blanket_threshold"),
+            c,
+            "the blanket threshold",
+            "kg/m³",
+        );
+    }
+    let (feed_flow, feed_solids, underflow) = (feed_flow?, feed_solids?, underflow?);
+    // Q_u < Q_f wherever the feed runs (both piecewise linear: the ends and
+    // the breakpoints bound the difference).
+    if let Underflow::Flow(u) = &underflow {
+        let mut times = vec![0.0, end_time];
+        for t in feed_flow.breakpoints().into_iter().chain(u.breakpoints()) {
+            if (0.0..=end_time).contains(&t) {
+                times.push(t);
+                times.push((t - t.abs().max(1.0) * 1e-12).max(0.0));
+            }
+        }
+        times.sort_by(f64::total_cmp);
+        for t in times {
+            let (qf, qu) = (feed_flow.at(t), u.at(t));
+            if qu > 0.0 && qu >= qf {
+                ck.refuse(
+                    &format!("{key}.underflow.flow"),
+                    format!(
+                        "at t = {:.4} h the underflow ({:.4} m³/h) is not less than the feed ({:.4} m³/h): nothing would leave over the lip, or liquid would have to enter there",
+                        t / 3600.0,
+                        to_h(qu),
+                        to_h(qf)
+                    ),
+                    "draw less underflow than the feed, or give it as `ratio:` of the feed",
+                );
+                break;
+            }
+        }
+    }
+    let blanket = match threshold {
+        Some(c) => c / rho_s_mean,
+        None => {
+            let phi = feed_solids.at(0.0);
+            if phi <= 0.0 {
+                ck.refuse(
+                    &format!("{key}.blanket_threshold"),
+                    "the feed carries no solids at the start, so the blanket threshold has no default",
+                    "give `blanket_threshold`, e.g. \"3 g/L\"",
+                );
+            }
+            phi
+        }
+    };
+    Some(Operation {
+        area: column.area,
+        height: column.height,
+        feed_level: geometry.feed_level,
+        feed_flow,
+        feed_solids,
+        underflow,
+        feed_class_share: Vec::new(),
+        class_density: Vec::new(),
+        blanket_threshold: blanket,
+    })
 }

@@ -8,8 +8,9 @@
 //! choice is written `drag: clift_grace_weber` or `size: { log_normal: {...} }`.
 
 use super::units::{
-    Density, Diffusivity, Duration, Fraction, Length, LinearDragCoefficient, Loading, Pressure,
-    QuadraticDragCoefficient, SpecificVolume, Temperature, Velocity, Viscosity,
+    Area, Concentration, Density, Diffusivity, Duration, Fraction, Length, LinearDragCoefficient,
+    Loading, Pressure, QuadraticDragCoefficient, SpecificVolume, Temperature, Velocity, Viscosity,
+    VolumeFlow,
 };
 use schemars::{JsonSchema, Schema, SchemaGenerator, json_schema};
 use serde::Deserialize;
@@ -37,8 +38,14 @@ pub struct ScenarioSpec {
     pub solids: Vec<SpeciesSpec>,
     /// The vessel.
     pub vessel: VesselSpec,
-    /// The state at time zero.
-    pub initial: InitialSpec,
+    /// The state at time zero. Required for a batch column; for a thickener
+    /// it is the tank's content at the start (default: clear liquid).
+    #[serde(default)]
+    pub initial: Option<InitialSpec>,
+    /// Feed and outlet flows of a continuous vessel (required for a
+    /// thickener, refused for a batch column).
+    #[serde(default)]
+    pub operation: Option<OperationSpec>,
     /// Physical models; every entry has a default.
     #[serde(default)]
     pub models: ModelsSpec,
@@ -144,8 +151,7 @@ pub struct PassingPoint {
     pub percent: f64,
 }
 
-/// The vessel. (Format 1 has the batch column; continuous vessels will be
-/// further choices here.)
+/// The vessel: a closed batch column or a continuous thickener.
 #[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum VesselSpec {
@@ -156,6 +162,170 @@ pub enum VesselSpec {
         /// Horizontal cross-section of the column.
         cross_section: CrossSectionSpec,
     },
+    /// A continuous thickener or clarifier: feed at `feed_level`, underflow
+    /// out through the floor, overflow over the lip at `height`; the flows
+    /// are given under `operation`.
+    Thickener {
+        /// Floor (underflow outlet) to overflow lip, e.g. "4 m".
+        height: Length,
+        /// Height of the feed above the floor, e.g. "2.5 m" (inside the vessel).
+        feed_level: Length,
+        /// Horizontal cross-section of the tank.
+        cross_section: TankSectionSpec,
+    },
+}
+
+/// The horizontal cross-section of a thickener tank.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum TankSectionSpec {
+    /// A round tank.
+    Round {
+        /// Inner diameter, e.g. "20 m".
+        diameter: Length,
+    },
+    /// A rectangular tank.
+    Rectangular {
+        /// Inner width.
+        width: Length,
+        /// Inner length (front to back).
+        depth: Length,
+    },
+    /// Only the settling area is known, e.g. "300 m²".
+    Area(Area),
+}
+
+/// Feed and outlet flows of a thickener. Each value is a constant
+/// (`feed_flow: "450 m³/h"`) or a schedule (`steps`, `table` or `ramp`).
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct OperationSpec {
+    /// Feed volume flow (slurry), e.g. "450 m³/h" or "125 L/s".
+    pub feed_flow: Scheduled<VolumeFlow>,
+    /// Solids in the feed, as `initial.loading` takes it: "3.5 g/L",
+    /// "2 vol%", "15 wt%" or a volume fraction.
+    pub feed_solids: Scheduled<Loading>,
+    /// Underflow (thickened slurry drawn off the floor).
+    pub underflow: UnderflowSpec,
+    /// Blanket (sludge bed) level rule: the highest point where the solids
+    /// concentration reaches this value (default: the feed solids
+    /// concentration at the start).
+    #[serde(default)]
+    pub blanket_threshold: Option<Concentration>,
+}
+
+/// How much underflow is drawn.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum UnderflowSpec {
+    /// Underflow volume flow, e.g. "150 m³/h" (less than the feed flow).
+    Flow(Scheduled<VolumeFlow>),
+    /// Underflow over feed flow (0 ≤ ratio < 1), e.g. 0.35.
+    Ratio(Scheduled<f64>),
+}
+
+/// A value over time: a constant, or one of three schedules.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Scheduled<T> {
+    /// The same value all run.
+    Constant(T),
+    /// Piecewise constant: each value holds from its time `at` to the next
+    /// row (before the first row, the first value).
+    Steps(Vec<ScheduleRow<T>>),
+    /// Linear interpolation between rows, end values beyond them.
+    Table(Vec<ScheduleRow<T>>),
+    /// A linear change from `from` to `to` between the times `start` and `end`.
+    Ramp(RampSpec<T>),
+}
+
+/// One row of a schedule.
+#[derive(Debug, Clone, PartialEq, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct ScheduleRow<T> {
+    /// Time since the start of the run, e.g. "6 h".
+    pub at: Duration,
+    /// The value from (steps) or at (table) that time.
+    pub value: T,
+}
+
+/// A ramp between two values.
+#[derive(Debug, Clone, PartialEq, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RampSpec<T> {
+    pub from: T,
+    pub to: T,
+    /// When the ramp starts and ends, e.g. "2 h" and "3 h".
+    pub start: Duration,
+    pub end: Duration,
+}
+
+const SCHEDULE_KINDS: &[&str] = &["steps", "table", "ramp"];
+
+impl<'de, T: Deserialize<'de>> Deserialize<'de> for Scheduled<T> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        use serde::de::value::{
+            F64Deserializer, I64Deserializer, StrDeserializer, U64Deserializer,
+        };
+        struct V<T>(std::marker::PhantomData<T>);
+        impl<'de, T: Deserialize<'de>> Visitor<'de> for V<T> {
+            type Value = Scheduled<T>;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a value, or a schedule `{ steps: [...] }`, `{ table: [...] }` or `{ ramp: {...} }`")
+            }
+            fn visit_str<E: de::Error>(self, s: &str) -> Result<Self::Value, E> {
+                T::deserialize(StrDeserializer::<E>::new(s)).map(Scheduled::Constant)
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Self::Value, E> {
+                T::deserialize(F64Deserializer::<E>::new(v)).map(Scheduled::Constant)
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Self::Value, E> {
+                T::deserialize(I64Deserializer::<E>::new(v)).map(Scheduled::Constant)
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Self::Value, E> {
+                T::deserialize(U64Deserializer::<E>::new(v)).map(Scheduled::Constant)
+            }
+            fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<Self::Value, A::Error> {
+                let Some(key) = map.next_key::<String>()? else {
+                    return Err(de::Error::custom(
+                        "an empty mapping: write a value, or one of `steps`, `table`, `ramp`",
+                    ));
+                };
+                let out = match key.as_str() {
+                    "steps" => Scheduled::Steps(map.next_value()?),
+                    "table" => Scheduled::Table(map.next_value()?),
+                    "ramp" => Scheduled::Ramp(map.next_value()?),
+                    other => return Err(de::Error::unknown_variant(other, SCHEDULE_KINDS)),
+                };
+                if let Some(extra) = map.next_key::<String>()? {
+                    return Err(de::Error::custom(format!(
+                        "a schedule has one kind, found `{key}` and `{extra}`"
+                    )));
+                }
+                Ok(out)
+            }
+        }
+        d.deserialize_any(V(std::marker::PhantomData))
+    }
+}
+
+impl<T: JsonSchema> JsonSchema for Scheduled<T> {
+    fn schema_name() -> Cow<'static, str> {
+        format!("Scheduled_{}", T::schema_name()).into()
+    }
+    fn json_schema(g: &mut SchemaGenerator) -> Schema {
+        let value = g.subschema_for::<T>();
+        let rows = g.subschema_for::<Vec<ScheduleRow<T>>>();
+        let ramp = g.subschema_for::<RampSpec<T>>();
+        json_schema!({
+            "description": "A constant value, or a schedule: `steps` (each value holds from its time), `table` (linear interpolation) or `ramp`",
+            "oneOf": [
+                value,
+                { "type": "object", "properties": { "steps": rows }, "required": ["steps"], "additionalProperties": false },
+                { "type": "object", "properties": { "table": rows }, "required": ["table"], "additionalProperties": false },
+                { "type": "object", "properties": { "ramp": ramp }, "required": ["ramp"], "additionalProperties": false }
+            ]
+        })
+    }
 }
 
 /// A horizontal cross-section.

@@ -28,6 +28,7 @@ const fn u(spellings: &'static [&'static str], scale: f64) -> Unit {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Kind {
     Length,
+    Area,
     Density,
     Viscosity,
     Temperature,
@@ -57,6 +58,16 @@ impl Kind {
                         u(&["mm"], 1e-3),
                         u(&["µm", "μm", "um", "micron", "microns"], 1e-6),
                         u(&["nm"], 1e-9),
+                    ]
+                }
+            }
+            Kind::Area => {
+                const {
+                    &[
+                        u(&["m²", "m2"], 1.0),
+                        u(&["cm²", "cm2"], 1e-4),
+                        u(&["mm²", "mm2"], 1e-6),
+                        u(&["ha"], 1e4),
                     ]
                 }
             }
@@ -174,6 +185,7 @@ impl Kind {
     pub fn describe(self) -> &'static str {
         match self {
             Kind::Length => "a length",
+            Kind::Area => "an area",
             Kind::Density => "a density",
             Kind::Viscosity => "a dynamic viscosity",
             Kind::Temperature => "a temperature",
@@ -212,6 +224,7 @@ impl Kind {
     pub fn example(self) -> &'static str {
         match self {
             Kind::Length => "\"250 µm\"",
+            Kind::Area => "\"350 m²\"",
             Kind::Density => "\"2650 kg/m³\"",
             Kind::Viscosity => "\"1.0 mPa·s\"",
             Kind::Temperature => "\"20 °C\"",
@@ -408,6 +421,11 @@ quantity!(
     Kind::Length
 );
 quantity!(
+    /// An area in m² (accepts m², cm², mm², ha).
+    Area,
+    Kind::Area
+);
+quantity!(
     /// A density in kg/m³ (accepts kg/m³, g/cm³, t/m³…).
     Density,
     Kind::Density
@@ -431,6 +449,11 @@ quantity!(
     /// A velocity in m/s (accepts m/s, mm/s, m/h, m/d…).
     Velocity,
     Kind::Velocity
+);
+quantity!(
+    /// A solids mass concentration in kg/m³ (accepts g/L, mg/L, kg/m³, t/m³).
+    Concentration,
+    Kind::MassConcentration
 );
 quantity!(
     /// A volume flow in m³/s (accepts m³/h, m³/d, L/s…).
@@ -629,6 +652,8 @@ mod tests {
         assert!(close(parse("90 min", Kind::Time).unwrap(), 5400.0));
         assert!(close(parse("3.6 m/h", Kind::Velocity).unwrap(), 1e-3));
         assert!(close(parse("360 m³/h", Kind::VolumeFlow).unwrap(), 0.1));
+        assert!(close(parse("2.5 ha", Kind::Area).unwrap(), 25000.0));
+        assert!(close(parse("300 m2", Kind::Area).unwrap(), 300.0));
         assert!(close(parse("36 t/h", Kind::MassFlow).unwrap(), 10.0));
         assert!(close(
             parse("120 g/L", Kind::MassConcentration).unwrap(),
