@@ -8,6 +8,7 @@
 
 use crate::plot::figures::{
     FluxFigure, HeatMapFigure, Mark, OperatingLine, ProfilesFigure, Series, SettlingCurveFigure,
+    TransientsFigure,
 };
 use crate::plot::{self, Figure, Format};
 use crate::result_file::{RunData, diameter_label};
@@ -62,6 +63,7 @@ pub enum AnyFigure {
     Map(HeatMapFigure),
     Profiles(ProfilesFigure),
     Flux(FluxFigure),
+    Transients(TransientsFigure),
 }
 
 impl AnyFigure {
@@ -71,6 +73,7 @@ impl AnyFigure {
             AnyFigure::Map(f) => plot::write(f, dir, formats),
             AnyFigure::Profiles(f) => plot::write(f, dir, formats),
             AnyFigure::Flux(f) => plot::write(f, dir, formats),
+            AnyFigure::Transients(f) => plot::write(f, dir, formats),
         }
     }
     pub fn svg(&self) -> Result<String, String> {
@@ -79,6 +82,7 @@ impl AnyFigure {
             AnyFigure::Map(f) => plot::svg_string(f),
             AnyFigure::Profiles(f) => plot::svg_string(f),
             AnyFigure::Flux(f) => plot::svg_string(f),
+            AnyFigure::Transients(f) => plot::svg_string(f),
         }
     }
     pub fn name(&self) -> &str {
@@ -87,6 +91,7 @@ impl AnyFigure {
             AnyFigure::Map(f) => f.name(),
             AnyFigure::Profiles(f) => f.name(),
             AnyFigure::Flux(f) => f.name(),
+            AnyFigure::Transients(f) => f.name(),
         }
     }
 }
@@ -1064,31 +1069,53 @@ pub fn run_figures(data: &RunData, times: &[f64]) -> Vec<AnyFigure> {
     };
     let mut frames: Vec<usize> = chosen.iter().map(|&t| data.frame_at(t)).collect();
     frames.dedup();
-    let mut figures = vec![AnyFigure::Curve(SettlingCurveFigure {
-        title: format!("Settling curve: {title}"),
-        series: vec![
-            Series {
-                label: "interface".into(),
-                time: data.time.clone(),
-                height: data.interface.clone(),
-                mark: Mark::Line,
-            },
-            Series {
-                label: "bed surface".into(),
-                time: data.time.clone(),
-                height: data.bed.clone(),
-                mark: Mark::Line,
-            },
-        ],
-        marker: None,
-    })];
+    // A thickener's story is its blanket and outlets; a batch column's its
+    // settling curve.
+    let first = match &data.outlets {
+        Some(o) => AnyFigure::Transients(TransientsFigure {
+            title: format!("Thickener: {title}"),
+            time: data.time.clone(),
+            blanket: o.blanket.clone(),
+            feed_level: Some(o.feed_level),
+            overflow_level: Some(o.overflow_level),
+            underflow: o.underflow.clone(),
+            overflow: o.overflow.clone(),
+        }),
+        None => AnyFigure::Curve(SettlingCurveFigure {
+            title: format!("Settling curve: {title}"),
+            series: vec![
+                Series {
+                    label: "interface".into(),
+                    time: data.time.clone(),
+                    height: data.interface.clone(),
+                    mark: Mark::Line,
+                },
+                Series {
+                    label: "bed surface".into(),
+                    time: data.time.clone(),
+                    height: data.bed.clone(),
+                    mark: Mark::Line,
+                },
+            ],
+            marker: None,
+        }),
+    };
+    let mut figures = vec![first];
     if nt > 0 {
         figures.push(AnyFigure::Map(HeatMapFigure {
             title: format!("Solids concentration: {title}"),
             time: data.time.clone(),
             z_edges: data.z_edges.clone(),
             values: data.total_concentration(),
-            interface: data.interface.clone(),
+            interface: match &data.outlets {
+                Some(o) => o.blanket.clone(),
+                None => data.interface.clone(),
+            },
+            line_label: if data.outlets.is_some() {
+                "blanket level".into()
+            } else {
+                "interface".into()
+            },
         }));
         figures.push(AnyFigure::Profiles(ProfilesFigure {
             title: format!("Concentration profiles by size class: {title}"),
@@ -1143,7 +1170,19 @@ pub fn run_outcome(a: &RunPlotArgs) -> Result<Outcome, Failure> {
         let _ = writeln!(text, "  interface {h0:.4} m → {h1:.4} m");
         key.push(("interface".into(), format!("{h0:.4} m → {h1:.4} m")));
     }
-    if let Some(b) = data.bed.last() {
+    if let Some(o) = &data.outlets {
+        if let (Some(b), Some(u), Some(v)) =
+            (o.blanket.last(), o.underflow.last(), o.overflow.last())
+        {
+            let _ = writeln!(
+                text,
+                "  at the end: blanket {b:.3} m, underflow {u:.2} g/L, overflow {v:.4} g/L"
+            );
+            key.push(("final blanket level".into(), format!("{b:.3} m")));
+            key.push(("final underflow".into(), format!("{u:.2} g/L")));
+            key.push(("final overflow".into(), format!("{v:.4} g/L")));
+        }
+    } else if let Some(b) = data.bed.last() {
         key.push(("final bed height".into(), format!("{b:.4} m")));
     }
     let figures = run_figures(&data, &times);

@@ -28,6 +28,20 @@ pub struct RunData {
     /// Interface and bed heights per frame, m.
     pub interface: Vec<f64>,
     pub bed: Vec<f64>,
+    /// A continuous thickener's outlets, one sample per frame.
+    pub outlets: Option<Outlets>,
+}
+
+/// The outlets of a thickener run, SI, one sample per frame.
+#[derive(Debug, Clone)]
+pub struct Outlets {
+    /// Blanket level, m; feed level and overflow lip, m.
+    pub blanket: Vec<f64>,
+    pub feed_level: f64,
+    pub overflow_level: f64,
+    /// Underflow and overflow solids concentration, kg/m³.
+    pub underflow: Vec<f64>,
+    pub overflow: Vec<f64>,
 }
 
 impl RunData {
@@ -47,6 +61,17 @@ impl RunData {
             phi_class: r.frames.iter().flat_map(|f| f.phi_class.clone()).collect(),
             interface: r.frames.iter().map(|f| f.interface_height).collect(),
             bed: r.frames.iter().map(|f| f.bed_height).collect(),
+            outlets: r.outlets.as_ref().map(|o| Outlets {
+                blanket: o.samples.iter().map(|s| s.blanket_level).collect(),
+                feed_level: o.feed_level,
+                overflow_level: o.overflow_level,
+                underflow: o
+                    .samples
+                    .iter()
+                    .map(|s| s.underflow_concentration)
+                    .collect(),
+                overflow: o.samples.iter().map(|s| s.overflow_concentration).collect(),
+            }),
         }
     }
 
@@ -99,7 +124,20 @@ impl RunData {
             interface: var("interface_height")?,
             bed: var("bed_height")?,
             z,
+            outlets: None,
         };
+        // A thickener run adds its outlets (`blanket_level` marks one).
+        let mut data = data;
+        if f.variable("blanket_level").is_ok() {
+            let scalar = |v: &str| var(v).map(|x| x.first().copied().unwrap_or(f64::NAN));
+            data.outlets = Some(Outlets {
+                blanket: var("blanket_level")?,
+                feed_level: scalar("feed_level")?,
+                overflow_level: scalar("overflow_level")?,
+                underflow: var("underflow_solids_concentration")?,
+                overflow: var("overflow_solids_concentration")?,
+            });
+        }
         let (nt, nc, nz) = (data.time.len(), data.class_diameter.len(), data.z.len());
         if nt == 0 || data.phi_class.len() != nt * nc * nz || data.z_edges.len() != nz + 1 {
             return Err(format!(

@@ -216,6 +216,47 @@ fn demo_run_writes_its_plots() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
+#[test]
+fn thickener_demo_plots_its_transients() {
+    let dir = temp_dir("design-thickener");
+    let out = dir.join("thickener.h5");
+    let o = turbid()
+        .args([
+            "run",
+            repo()
+                .join("scenarios/municipal-thickener.yaml")
+                .to_str()
+                .unwrap(),
+        ])
+        .args(["-o", out.to_str().unwrap(), "--progress", "none", "--plots"])
+        .output()
+        .unwrap();
+    ok(&o, "thickener demo run");
+    // `--plots` without a directory: `<stem>.plots/` beside the result.
+    let plots = dir.join("thickener.plots");
+    check_plot(&plots, "thickener-transients", 0.02);
+    check_plot(&plots, "concentration-map", 0.4);
+    assert!(!plots.join("settling-curve.png").exists());
+    // Read back from the file: the same transients, and the report's numbers.
+    let html = dir.join("thickener.html");
+    let o = turbid()
+        .args([
+            "report",
+            "run",
+            out.to_str().unwrap(),
+            "-o",
+            html.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    ok(&o, "turbid report run (thickener)");
+    let page = std::fs::read_to_string(&html).unwrap();
+    assert!(page.contains("id=\"thickener-transients\""));
+    assert!(page.contains("final underflow"));
+    assert_self_contained(&page);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
 /// No scripts, links, images or fonts from elsewhere: the only URL allowed
 /// is the SVG namespace name, which is an identifier, not fetched.
 fn assert_self_contained(page: &str) {

@@ -123,8 +123,10 @@ pub struct HeatMapFigure {
     pub z_edges: Vec<f64>,
     /// Concentration per frame and slab, g/L, frame-major (nt × nz).
     pub values: Vec<f64>,
-    /// The interface height per frame, m, drawn over the map.
+    /// A level per frame, m, drawn over the map (the interface of a batch
+    /// test, the blanket of a thickener), and its legend label.
     pub interface: Vec<f64>,
+    pub line_label: String,
 }
 
 impl Figure for HeatMapFigure {
@@ -196,7 +198,7 @@ impl Figure for HeatMapFigure {
                     WHITE.stroke_width(2),
                 ))
                 .map_err(err)?
-                .label("interface")
+                .label(self.line_label.clone())
                 .legend(|(x, y)| {
                     PathElement::new(vec![(x, y), (x + 20, y)], WHITE.stroke_width(2))
                 });
@@ -470,4 +472,136 @@ fn trimmed(x: f64) -> String {
 fn caption_size(title: &str, width: u32) -> u32 {
     let chars = title.chars().count().max(1) as f64;
     ((0.92 * width as f64 / (0.55 * chars)) as u32).clamp(12, CAPTION)
+}
+
+/// Thickener transients: blanket level (top panel) and the outlet
+/// concentrations (bottom panel) against time.
+pub struct TransientsFigure {
+    pub title: String,
+    /// Sample times, s.
+    pub time: Vec<f64>,
+    /// Blanket level, m, and the feed level and overflow lip (drawn as
+    /// reference lines), m.
+    pub blanket: Vec<f64>,
+    pub feed_level: Option<f64>,
+    pub overflow_level: Option<f64>,
+    /// Underflow and overflow solids concentration, g/L.
+    pub underflow: Vec<f64>,
+    pub overflow: Vec<f64>,
+}
+
+impl Figure for TransientsFigure {
+    fn name(&self) -> &str {
+        "thickener-transients"
+    }
+    fn size(&self) -> (u32, u32) {
+        (900, 800)
+    }
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), String> {
+        let root = root
+            .titled(
+                &self.title,
+                (FAMILY, caption_size(&self.title, root.dim_in_pixel().0)),
+            )
+            .map_err(err)?;
+        let (top, bottom) = root.split_vertically(root.dim_in_pixel().1 / 2);
+        let t_max = self.time.last().copied().unwrap_or(1.0);
+        let tu = TimeUnit::for_span(t_max);
+        let x = 0.0..(t_max / tu.seconds).max(1e-9);
+        let h_max = self
+            .blanket
+            .iter()
+            .copied()
+            .chain(self.overflow_level)
+            .chain(self.feed_level)
+            .fold(0.0, f64::max)
+            .max(1e-9);
+        let mut up = ChartBuilder::on(&top)
+            .margin(15)
+            .x_label_area_size(45)
+            .y_label_area_size(70)
+            .build_cartesian_2d(x.clone(), 0.0..h_max * 1.08)
+            .map_err(err)?;
+        up.configure_mesh()
+            .x_desc(format!("time [{}]", tu.label))
+            .y_desc("blanket level [m]")
+            .label_style((FAMILY, LABEL))
+            .draw()
+            .map_err(err)?;
+        let t = |i: usize| self.time[i] / tu.seconds;
+        let c0 = series_colour(0);
+        up.draw_series(LineSeries::new(
+            self.blanket.iter().enumerate().map(|(i, &h)| (t(i), h)),
+            c0.stroke_width(2),
+        ))
+        .map_err(err)?
+        .label("blanket level")
+        .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], c0.stroke_width(2)));
+        for (level, label, colour) in [
+            (self.feed_level, "feed level", RGBColor(120, 120, 120)),
+            (self.overflow_level, "overflow lip", BLACK),
+        ] {
+            if let Some(l) = level {
+                up.draw_series(DashedLineSeries::new(
+                    [(x.start, l), (x.end, l)],
+                    6,
+                    4,
+                    colour.stroke_width(1),
+                ))
+                .map_err(err)?
+                .label(label)
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(1))
+                });
+            }
+        }
+        up.configure_series_labels()
+            .position(SeriesLabelPosition::LowerRight)
+            .background_style(WHITE.mix(0.85))
+            .border_style(BLACK)
+            .label_font((FAMILY, LABEL))
+            .draw()
+            .map_err(err)?;
+        let c_max = self
+            .underflow
+            .iter()
+            .chain(&self.overflow)
+            .copied()
+            .fold(0.0, f64::max)
+            .max(1e-9);
+        let mut down = ChartBuilder::on(&bottom)
+            .margin(15)
+            .x_label_area_size(45)
+            .y_label_area_size(70)
+            .build_cartesian_2d(x, 0.0..c_max * 1.08)
+            .map_err(err)?;
+        down.configure_mesh()
+            .x_desc(format!("time [{}]", tu.label))
+            .y_desc("solids [g/L]")
+            .label_style((FAMILY, LABEL))
+            .draw()
+            .map_err(err)?;
+        for (values, label, colour) in [
+            (&self.underflow, "underflow", series_colour(1)),
+            (&self.overflow, "overflow", series_colour(2)),
+        ] {
+            down.draw_series(LineSeries::new(
+                values.iter().enumerate().map(|(i, &c)| (t(i), c)),
+                colour.stroke_width(2),
+            ))
+            .map_err(err)?
+            .label(label)
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2))
+            });
+        }
+        down.configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
+            .background_style(WHITE.mix(0.85))
+            .border_style(BLACK)
+            .label_font((FAMILY, LABEL))
+            .draw()
+            .map_err(err)?;
+        Ok(())
+    }
 }
