@@ -408,7 +408,7 @@ impl Figure for FluxFigure {
             chart
                 .draw_series(LineSeries::new([a, b], green.stroke_width(2)))
                 .map_err(err)?
-                .label(format!("limiting flux {:.3} kg/(m²·h)", a.1))
+                .label(format!("limiting flux {:.1} kg/(m²·h)", a.1))
                 .legend(move |(x, y)| {
                     PathElement::new(vec![(x, y), (x + 20, y)], green.stroke_width(2))
                 });
