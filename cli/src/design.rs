@@ -424,7 +424,7 @@ pub fn curve_command(a: &CurveArgs) -> Result<Outcome, Failure> {
     let table = BatchFluxCurve::from_kynch(&ca.kynch)?;
     figures.push(AnyFigure::Flux(FluxFigure {
         title: "Batch flux curve (Kynch)".into(),
-        curve: sample_flux(&table),
+        curve: sample_flux(&table, f64::INFINITY),
         points: flux_points(&ca.kynch),
         operating: None,
         tangent: None,
@@ -461,9 +461,11 @@ fn curve_inputs(path: &Path, run: Option<&RunData>) -> Vec<(String, String)> {
     }
 }
 
-/// A flux curve sampled for drawing, (g/L, kg/(m²·h)).
-fn sample_flux(flux: &BatchFluxCurve) -> Vec<(f64, f64)> {
+/// A flux curve sampled for drawing, (g/L, kg/(m²·h)), up to `upto` g/L
+/// at most (a law runs to the packing limit, far beyond the design range).
+fn sample_flux(flux: &BatchFluxCurve, upto: f64) -> Vec<(f64, f64)> {
     let (lo, hi) = flux.range();
+    let hi = hi.min(upto.max(lo));
     let n = 300;
     (0..=n)
         .map(|i| {
@@ -748,7 +750,17 @@ pub fn size_command(a: &SizeArgs) -> Result<Outcome, Failure> {
     });
     figures.push(AnyFigure::Flux(FluxFigure {
         title: format!("Batch flux curve: {source}"),
-        curve: sample_flux(&flux),
+        curve: sample_flux(
+            &flux,
+            match flux {
+                BatchFluxCurve::Law { .. } => {
+                    1.5 * state
+                        .as_ref()
+                        .map_or(cu, |sp| sp.underflow_concentration.max(cu))
+                }
+                BatchFluxCurve::Table { .. } => f64::INFINITY,
+            },
+        ),
         points: kynch_points,
         operating,
         tangent: limiting.map(|l| ((0.0, per_hour(l.limiting_flux)), (cu, 0.0))),

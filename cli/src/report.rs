@@ -28,7 +28,7 @@ const STYLE: &str = "body{font-family:sans-serif;max-width:1100px;margin:2em aut
 color:#222;line-height:1.4}h1{font-size:1.6em}h2{font-size:1.25em;margin-top:1.8em;\
 border-bottom:1px solid #ccc}table{border-collapse:collapse}td,th{padding:.25em .8em;\
 border-bottom:1px solid #e4e4e4;text-align:left;vertical-align:top}pre{background:#f6f6f6;\
-padding:.8em;overflow-x:auto;font-size:.85em}figure{margin:1em 0}figure svg{max-width:100%;\
+padding:.8em;overflow-x:auto;white-space:pre-wrap;font-size:.85em}figure{margin:1em 0}figure svg{max-width:100%;\
 height:auto;border:1px solid #eee}.caution{border:2px solid #b35900;background:#fff4e6;\
 padding:.8em 1em;margin:1.5em 0}footer{margin-top:3em;font-size:.8em;color:#666}";
 
