@@ -673,3 +673,85 @@ fn bad_input_to_the_design_commands_exits_2_with_a_located_message() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn size_from_a_scenario_law_matches_the_library() {
+    // The invented municipal thickener's Vesilind sludge (v0 = 8 m/h,
+    // k = 0.5 L/g) as the flux curve; a tank of 452 m² with 160 m³/h
+    // underflow and 2 t/h at 3.5 g/L.
+    let scenario = repo().join("scenarios/municipal-thickener.yaml");
+    let o = turbid()
+        .args(["size", "--scenario", scenario.to_str().unwrap()])
+        .args([
+            "--feed",
+            "2 t/h",
+            "--feed-concentration",
+            "3.5 g/L",
+            "--underflow",
+            "10 g/L",
+        ])
+        .args([
+            "--tank-area",
+            "452 m²",
+            "--underflow-flow",
+            "160 m³/h",
+            "--json",
+        ])
+        .output()
+        .unwrap();
+    ok(&o, "turbid size --scenario");
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let setup = turbid_engine::scenario::load(&scenario).unwrap();
+    let class = &setup.classes[0];
+    let flux = BatchFluxCurve::law(
+        setup.hindered_law(class),
+        class.terminal.velocity,
+        setup.max_packing,
+        setup.species[class.species].density,
+    );
+    let basis = DesignBasis {
+        feed_solids: 2.0 / 3.6,
+        feed_concentration: 3.5,
+        underflow_concentration: 10.0,
+    };
+    let expected = yoshioka(&flux, &basis).unwrap();
+    let got = j["areas"][0]["area"].as_f64().unwrap();
+    assert!(
+        (got - expected.area).abs() <= 1e-12 * expected.area,
+        "{got} vs {}",
+        expected.area
+    );
+    let tank = turbid_engine::analysis::sizing::TankOperation {
+        area: 452.0,
+        feed_flow: 2.0 / 3.6 / 3.5,
+        underflow_flow: 160.0 / 3600.0,
+        feed_concentration: 3.5,
+    };
+    let sp = turbid_engine::analysis::sizing::state_point(&flux, &tank, 0.02).unwrap();
+    assert_eq!(
+        j["state_point"]["verdict"],
+        serde_json::to_value(sp.verdict).unwrap()
+    );
+    // Only the flux methods: a law has no settling curve.
+    assert_eq!(j["areas"].as_array().unwrap().len(), 2);
+    // A scenario with several size classes is refused.
+    let o = turbid()
+        .args(["size", "--scenario"])
+        .arg(repo().join("scenarios/copper-tailings-slurry.yaml"))
+        .args([
+            "--feed",
+            "2 t/h",
+            "--feed-concentration",
+            "3.5 g/L",
+            "--underflow",
+            "10 g/L",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        text(&o.stderr).contains("one size class"),
+        "{}",
+        text(&o.stderr)
+    );
+}
