@@ -66,8 +66,15 @@ pub struct RunSummary {
     /// Time to 90 % clarification, see [`clarification_time`]; absent when not
     /// reached within the run or the run did not complete.
     pub clarification_time_90_s: Option<f64>,
-    /// Largest relative change of the solids volume over all records.
+    /// Batch column: largest relative change of the solids volume over all
+    /// records. Thickener: worst relative residual of fed − drawn off −
+    /// accumulated (`OutletSeries::worst_residual`).
     pub solids_balance: Option<f64>,
+    /// Thickener only: underflow and overflow solids concentration and the
+    /// blanket level at the last record.
+    pub final_underflow_concentration_kg_m3: Option<f64>,
+    pub final_overflow_concentration_kg_m3: Option<f64>,
+    pub final_blanket_level_m: Option<f64>,
 }
 
 impl Default for RunSummary {
@@ -94,6 +101,9 @@ impl Default for RunSummary {
             final_bed_height_m: None,
             clarification_time_90_s: None,
             solids_balance: None,
+            final_underflow_concentration_kg_m3: None,
+            final_overflow_concentration_kg_m3: None,
+            final_blanket_level_m: None,
         }
     }
 }
@@ -108,13 +118,18 @@ impl RunSummary {
             RunStatus::Complete => Status::Complete,
             RunStatus::Partial => Status::Partial,
         };
-        let balance = first.map(|f0| {
-            record
-                .frames
-                .iter()
-                .map(|f| ((f.solids_volume - f0.solids_volume) / f0.solids_volume).abs())
-                .fold(0.0, f64::max)
-        });
+        // A thickener's inventory changes by design: its balance is the ledger's.
+        let balance = match &record.outlets {
+            Some(o) => Some(o.worst_residual()),
+            None => first.map(|f0| {
+                record
+                    .frames
+                    .iter()
+                    .map(|f| ((f.solids_volume - f0.solids_volume) / f0.solids_volume).abs())
+                    .fold(0.0, f64::max)
+            }),
+        };
+        let outlet = record.outlets.as_ref().and_then(|o| o.samples.last());
         let t90 = match (status, fill) {
             (Status::Complete, Some(h0)) => clarification_time(
                 &record.frames.iter().map(|f| f.time).collect::<Vec<_>>(),
@@ -141,6 +156,9 @@ impl RunSummary {
             final_bed_height_m: last.map(|f| f.bed_height),
             clarification_time_90_s: t90,
             solids_balance: balance,
+            final_underflow_concentration_kg_m3: outlet.map(|o| o.underflow_concentration),
+            final_overflow_concentration_kg_m3: outlet.map(|o| o.overflow_concentration),
+            final_blanket_level_m: outlet.map(|o| o.blanket_level),
             ..RunSummary::default()
         }
     }

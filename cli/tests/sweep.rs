@@ -504,3 +504,80 @@ fn sigterm_stops_a_sweep_whose_runs_save_partial_results() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A sweep over a thickener's underflow flow: the table gains the outlet
+/// columns, and each run's underflow concentration is the steady-state mass
+/// balance C_u = Q_f C_f / Q_u (exact for an underloaded tank at steady state:
+/// everything fed leaves through the floor). Underloaded: with the invented
+/// Vesilind sludge v0 = 8 m/h, k = 0.5 L/g and q_u = 0.5 m/h, the Yoshioka
+/// limiting flux is 5.16 kg/(m² h) (tests/tests/thickener_continuum.rs
+/// computes it), above the feed flux 1.5 m/h × 3 kg/m³ = 4.5 kg/(m² h); a
+/// larger q_u only raises the limit.
+#[test]
+fn a_thickener_sweep_tabulates_the_underflow() {
+    let dir = temp_dir("sweep-thickener");
+    write(
+        &dir.join("tank.yaml"),
+        r#"format: 1
+title: Pilot tank, invented sludge (sweep test)
+fluid:
+  water: { temperature: "15 °C" }
+solids:
+  - name: invented sludge flocs
+    density: "1450 kg/m³"
+    size: { single: "100 µm" }
+vessel:
+  thickener:
+    height: "2 m"
+    feed_level: "1 m"
+    cross_section: { area: "1 m²" }
+operation:
+  feed_flow: "1.5 m³/h"
+  feed_solids: "3 g/L"
+  underflow: { flow: "0.5 m³/h" }
+models:
+  hindered:
+    vesilind: { v0: "8 m/h", k: "0.5 L/g" }
+run:
+  end_time: "12 h"
+  output_interval: "1 h"
+  parcels: 1000
+  engine: continuum
+numerics:
+  cells: 100
+output:
+  file: tank.h5
+  height_bins: 20
+"#,
+    );
+    write(
+        &dir.join("flows.yaml"),
+        "sweep: 1\nbase: tank.yaml\nlist:\n  operation.underflow.flow: [\"0.5 m³/h\", \"0.6 m³/h\"]\n",
+    );
+    let o = run_in(&dir, &["sweep", "run", "flows.yaml", "--jobs", "2"]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}{}",
+        text(&o.stdout),
+        text(&o.stderr)
+    );
+    let (header, rows) = table(&read(&dir.join("out/flows/summary.csv")));
+    let col = |name: &str| {
+        header
+            .iter()
+            .position(|h| h == name)
+            .unwrap_or_else(|| panic!("no column {name} in {header:?}"))
+    };
+    let cu = col("final_underflow_concentration_kg_m3");
+    col("final_blanket_level_m");
+    col("final_overflow_concentration_kg_m3");
+    for (row, q_u) in rows.iter().zip([0.5, 0.6]) {
+        let got: f64 = row[cu].parse().unwrap();
+        let want = 1.5 * 3.0 / q_u;
+        assert!(
+            (got - want).abs() <= 1e-3 * want,
+            "Q_u = {q_u} m³/h: underflow {got} kg/m³, mass balance {want}"
+        );
+    }
+}

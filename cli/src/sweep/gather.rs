@@ -22,6 +22,9 @@ pub struct ResultColumn {
     pub units: &'static str,
     pub long_name: &'static str,
     pub get: fn(&RunSummary) -> Option<f64>,
+    /// Only some vessels have it (a thickener's outlets): left out of the
+    /// table when no run has a value, so a column sweep's table stays lean.
+    pub optional: bool,
 }
 
 /// The results tabulated for every run, in column order.
@@ -32,6 +35,7 @@ pub const RESULTS: &[ResultColumn] = &[
         units: "m",
         long_name: "height of the clear-liquid/suspension interface at the end of the run",
         get: |s| s.final_interface_height_m,
+        optional: false,
     },
     ResultColumn {
         name: "final_bed_height",
@@ -39,6 +43,7 @@ pub const RESULTS: &[ResultColumn] = &[
         units: "m",
         long_name: "height of the bed surface at the end of the run",
         get: |s| s.final_bed_height_m,
+        optional: false,
     },
     ResultColumn {
         name: "clarification_time_90",
@@ -46,6 +51,31 @@ pub const RESULTS: &[ResultColumn] = &[
         units: "s",
         long_name: "time until the interface has fallen 90 % of the way from the fill height to the final bed height",
         get: |s| s.clarification_time_90_s,
+        optional: false,
+    },
+    ResultColumn {
+        name: "final_underflow_concentration",
+        csv: "final_underflow_concentration_kg_m3",
+        units: "kg m-3",
+        long_name: "thickener: underflow solids concentration at the last record",
+        get: |s| s.final_underflow_concentration_kg_m3,
+        optional: true,
+    },
+    ResultColumn {
+        name: "final_overflow_concentration",
+        csv: "final_overflow_concentration_kg_m3",
+        units: "kg m-3",
+        long_name: "thickener: overflow solids concentration at the last record",
+        get: |s| s.final_overflow_concentration_kg_m3,
+        optional: true,
+    },
+    ResultColumn {
+        name: "final_blanket_level",
+        csv: "final_blanket_level_m",
+        units: "m",
+        long_name: "thickener: blanket level above the floor at the last record",
+        get: |s| s.final_blanket_level_m,
+        optional: true,
     },
     ResultColumn {
         name: "simulated_time",
@@ -53,6 +83,7 @@ pub const RESULTS: &[ResultColumn] = &[
         units: "s",
         long_name: "simulated time of the last record",
         get: |s| s.simulated_time_s,
+        optional: false,
     },
 ];
 
@@ -192,14 +223,16 @@ pub fn gather(sweep: &Sweep, quiet: bool) -> Result<(usize, usize), Failure> {
     let columns: Vec<ParamColumn> = (0..sweep.params.len())
         .map(|j| classify(&sweep.runs.iter().map(|r| &r.values[j]).collect::<Vec<_>>()))
         .collect();
-    let results: Vec<Vec<Option<f64>>> = RESULTS
+    let results: Vec<(&ResultColumn, Vec<Option<f64>>)> = RESULTS
         .iter()
         .map(|c| {
-            summaries
+            let col: Vec<Option<f64>> = summaries
                 .iter()
                 .map(|s| s.as_ref().and_then(c.get))
-                .collect()
+                .collect();
+            (c, col)
         })
+        .filter(|(c, col)| !c.optional || col.iter().any(Option::is_some))
         .collect();
 
     let csv_path = sweep.out_dir.join("summary.csv");
@@ -240,7 +273,7 @@ fn csv_text(
     sweep: &Sweep,
     status: &[String],
     columns: &[ParamColumn],
-    results: &[Vec<Option<f64>>],
+    results: &[(&ResultColumn, Vec<Option<f64>>)],
 ) -> Result<String, csv::Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     let mut header = vec!["run".to_string(), "status".to_string()];
@@ -250,7 +283,7 @@ fn csv_text(
             ParamColumn::Text(_) => p.canonical.clone(),
         });
     }
-    header.extend(RESULTS.iter().map(|r| r.csv.to_string()));
+    header.extend(results.iter().map(|(r, _)| r.csv.to_string()));
     w.write_record(&header)?;
     for (i, r) in sweep.runs.iter().enumerate() {
         let mut row = vec![r.number.to_string(), status[i].clone()];
@@ -260,7 +293,7 @@ fn csv_text(
                 ParamColumn::Text(t) => t[i].clone(),
             });
         }
-        row.extend(results.iter().map(|col| number(col[i])));
+        row.extend(results.iter().map(|(_, col)| number(col[i])));
         w.write_record(&row)?;
     }
     let body = String::from_utf8(w.into_inner().map_err(|e| e.into_error())?).unwrap_or_default();
@@ -275,7 +308,7 @@ fn netcdf(
     sweep: &Sweep,
     status: &[String],
     columns: &[ParamColumn],
-    results: &[Vec<Option<f64>>],
+    results: &[(&ResultColumn, Vec<Option<f64>>)],
 ) -> netcdf_writer::Result<NcFileBuilder> {
     let text = |s: &str| NcAttrValue::Chars(s.to_string());
     let mut b = NcFileBuilder::new();
@@ -337,7 +370,7 @@ fn netcdf(
             }
         }
     }
-    for (c, col) in RESULTS.iter().zip(results) {
+    for (c, col) in results {
         let v = b.add_variable::<f64>(c.name, &[run])?;
         b.add_variable_attribute(v, "units", text(c.units))?;
         b.add_variable_attribute(v, "long_name", text(c.long_name))?;

@@ -133,6 +133,9 @@ pub struct Kernel {
     pub window_height: f64,
     /// Height of the liquid (free surface), m.
     pub top: f64,
+    /// Floor, m: 0 in a vessel. A thickener opens both ends (−∞ and +∞):
+    /// the outlets' suspension continues beyond them (see `thickener`).
+    pub bottom: f64,
     norm: f64,
     table: HorizontalTable,
 }
@@ -186,6 +189,7 @@ impl Kernel {
             radius,
             window_height,
             top,
+            bottom: 0.0,
             norm: 1.0 / (radius * radius * window_height),
             table,
         }
@@ -215,7 +219,7 @@ impl Kernel {
     /// free surface, less near them.
     #[inline]
     pub fn window_inside(&self, z: f64, up: bool) -> f64 {
-        let room = if up { self.top - z } else { z };
+        let room = if up { self.top - z } else { z - self.bottom };
         room.clamp(0.0, self.window_height)
     }
 
@@ -229,7 +233,7 @@ impl Kernel {
         if up {
             z.min(self.top - min_length)
         } else {
-            z.max(min_length)
+            z.max(self.bottom + min_length)
         }
     }
 

@@ -9,6 +9,7 @@ pub mod kernel;
 pub mod neighbours;
 pub mod pipeline;
 pub mod random;
+pub mod thickener;
 
 use crate::physics::compression::PowerLawStress;
 use crate::record::{RecordLayout, RunRecord, RunStatus};
@@ -62,7 +63,7 @@ pub struct ParcelState {
     pub resting: bool,
 }
 
-/// A batch-settling run of the particle engine.
+/// A run of the particle engine: a batch column or a continuous thickener.
 pub struct ParticleEngine {
     world: World,
     schedule: Schedule,
@@ -111,10 +112,12 @@ impl ParticleEngine {
                     .to_string(),
             ));
         }
-        if setup.thickener.is_some() {
+        if setup.thickener.is_some() && setup.compression.is_some() {
+            // Not validated together: the outlet parcels below the floor and
+            // the bed moving with the underflow change what compression sees.
             return Err(EngineError::Unsupported(
-                "the particle engine does not run continuous thickeners yet; \
-                 run the scenario with `run: { engine: continuum }`"
+                "the particle engine does not run a thickener with bed compression yet; \
+                 remove `models.compression`, or run the scenario with `run: { engine: continuum }`"
                     .to_string(),
             ));
         }
@@ -134,7 +137,10 @@ impl ParticleEngine {
         let mut world = World::new();
         // Parcels: stratified in height within each class, uniform across.
         let shares: Vec<f64> = setup.classes.iter().map(|c| c.volume_share).collect();
-        let counts = parcels_per_class(&shares, setup.run.parcels);
+        let counts = match &setup.thickener {
+            None => parcels_per_class(&shares, setup.run.parcels),
+            Some(op) => thickener::initial_counts(setup, op),
+        };
         let mut id: u32 = 0;
         let mut batch = Vec::with_capacity(setup.run.parcels as usize);
         for (c, (&n, class)) in counts.iter().zip(&setup.classes).enumerate() {
@@ -164,6 +170,13 @@ impl ParticleEngine {
             }
         }
         world.spawn_batch(batch);
+        if let Some(op) = &setup.thickener {
+            let mut inventory = vec![0.0; counts.len()];
+            for p in world.query::<&Parcel>().iter(&world) {
+                inventory[p.class as usize] += p.volume;
+            }
+            world.insert_resource(thickener::Tank::new(setup, op, inventory, id));
+        }
 
         let kernel = Kernel::for_neighbours(
             &section,
@@ -267,6 +280,22 @@ impl ParticleEngine {
             )
                 .chain(),
         );
+        if setup.thickener.is_some() {
+            // The suspension continues beyond the outlets (outlet parcels):
+            // the kernel is not cut at the floor and the lip.
+            let k = &mut world.resource_mut::<KernelRes>().0;
+            k.top = f64::INFINITY;
+            k.bottom = f64::NEG_INFINITY;
+            use thickener::*;
+            schedule.add_systems((
+                limit_step.after(choose_time_step).before(integrate),
+                bulk_transport.after(limit_step).before(integrate),
+                outlets.after(integrate).before(walls_floor_packing),
+                inject_feed.after(walls_floor_packing).before(advance_clock),
+                land_on_change.after(advance_clock).before(record),
+                sample_outlets.after(record),
+            ));
+        }
         let mut engine = ParticleEngine {
             world,
             schedule,
@@ -289,6 +318,9 @@ impl ParticleEngine {
             take_frame(0.0, rec, bed, &q)
         };
         self.world.resource_mut::<Recorder>().frames.push(frame);
+        if self.world.contains_resource::<thickener::Tank>() {
+            thickener::sample_outlets(&mut self.world);
+        }
     }
 
     /// Simulated time, s.
@@ -336,7 +368,10 @@ impl ParticleEngine {
             seed: self.seed,
             engine: "particle".to_string(),
             resolution: self.parcels,
-            outlets: None,
+            outlets: self
+                .world
+                .get_resource::<thickener::Tank>()
+                .map(thickener::Tank::series),
         }
     }
 

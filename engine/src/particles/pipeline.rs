@@ -218,7 +218,7 @@ pub struct StageTimes {
 }
 
 impl StageTimes {
-    fn add(&mut self, name: &'static str, since: Instant) {
+    pub(crate) fn add(&mut self, name: &'static str, since: Instant) {
         let d = since.elapsed();
         match self.stages.iter_mut().find(|(n, _)| *n == name) {
             Some((_, t)) => *t += d,
@@ -737,6 +737,9 @@ pub fn take_frame(time: f64, rec: &Recorder, bed: &Bed, q: &Query<(&Position, &P
     let mut phi_class = vec![0.0; layout.nclasses() * nz];
     let mut solids = 0.0;
     for (pos, parcel) in q.iter() {
+        if !(0.0..=top).contains(&pos.0[2]) {
+            continue; // left through a thickener's outlet (never in a batch column)
+        }
         let k = ((pos.0[2] / dz).floor().max(0.0) as usize).min(nz - 1);
         phi_class[parcel.class as usize * nz + k] += parcel.volume;
         solids += parcel.volume;
