@@ -1178,7 +1178,9 @@ pub fn run_outcome(a: &RunPlotArgs) -> Result<Outcome, Failure> {
         ("status".into(), data.status.clone()),
         ("simulated time".into(), format!("{:.4} min", t_end / 60.0)),
     ];
-    if let (Some(h0), Some(h1)) = (data.interface.first(), data.interface.last()) {
+    if let (Some(h0), Some(h1), None) =
+        (data.interface.first(), data.interface.last(), &data.outlets)
+    {
         let _ = writeln!(text, "  interface {h0:.4} m → {h1:.4} m");
         key.push(("interface".into(), format!("{h0:.4} m → {h1:.4} m")));
     }
@@ -1213,6 +1215,7 @@ pub fn run_outcome(a: &RunPlotArgs) -> Result<Outcome, Failure> {
         figures,
         key_numbers: key,
         inputs: vec![("scenario".into(), data.scenario_yaml.clone())],
-        design: false,
+        // A thickener's underflow and blanket are design predictions.
+        design: data.outlets.is_some(),
     })
 }

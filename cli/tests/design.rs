@@ -253,6 +253,8 @@ fn thickener_demo_plots_its_transients() {
     let page = std::fs::read_to_string(&html).unwrap();
     assert!(page.contains("id=\"thickener-transients\""));
     assert!(page.contains("final underflow"));
+    // Underflow and blanket predictions are design outputs: the caution.
+    assert!(page.contains("id=\"caution\"") && page.contains("licensed engineer"));
     assert_self_contained(&page);
     let _ = std::fs::remove_dir_all(&dir);
 }
