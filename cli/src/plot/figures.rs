@@ -260,7 +260,8 @@ impl Figure for ProfilesFigure {
         (320 * self.panels.len().max(1) as u32 + 80, 600)
     }
     fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), String> {
-        let root = root.titled(&self.title, (FAMILY, CAPTION)).map_err(err)?;
+        let size = caption_size(&self.title, root.dim_in_pixel().0);
+        let root = root.titled(&self.title, (FAMILY, size)).map_err(err)?;
         let cmax = self
             .panels
             .iter()
