@@ -6,6 +6,10 @@
 //! 4 (sweeps) some runs failed or are not complete.
 
 mod atomic;
+mod design;
+mod plot;
+mod report;
+mod result_file;
 mod run;
 mod run_summary;
 mod summary;
@@ -50,6 +54,55 @@ enum Command {
         /// Seconds between plain progress lines when not on a terminal.
         #[arg(long, default_value_t = 10.0)]
         log_every: f64,
+        /// Also write the plots (PNG and SVG) into DIR (default: `<stem>.plots/` beside the result).
+        #[arg(long, value_name = "DIR", num_args = 0..=1)]
+        plots: Option<Option<PathBuf>>,
+    },
+    /// Analyse a settling curve: Kynch flux table and compression point.
+    Curve {
+        #[command(flatten)]
+        args: design::CurveArgs,
+        /// Print the results as JSON (SI units) instead of text.
+        #[arg(long)]
+        json: bool,
+        #[command(flatten)]
+        plots: design::PlotArgs,
+    },
+    /// Size a thickener from a settling curve or a settling law; state-point check of a tank.
+    Size {
+        #[command(flatten)]
+        args: design::SizeArgs,
+        /// Print the results as JSON (SI units) instead of text.
+        #[arg(long)]
+        json: bool,
+        #[command(flatten)]
+        plots: design::PlotArgs,
+    },
+    /// Fit a settling law to measured settling curves (continuum model inside the fit).
+    Fit {
+        #[command(flatten)]
+        args: design::FitArgs,
+        /// Print the results as JSON (SI units) instead of text.
+        #[arg(long)]
+        json: bool,
+        #[command(flatten)]
+        plots: design::PlotArgs,
+    },
+    /// Plot a result file: settling curve, concentration map, profiles by size class.
+    Plot {
+        #[command(flatten)]
+        args: design::RunPlotArgs,
+        /// Directory for the plots (default: `<stem>.plots/` beside the result).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// Plot formats.
+        #[arg(long, value_enum, value_delimiter = ',', default_value = "png,svg")]
+        format: Vec<plot::Format>,
+    },
+    /// Write one run, curve analysis, sizing or fit as a self-contained HTML report.
+    Report {
+        #[command(subcommand)]
+        what: ReportCommand,
     },
     /// Print the JSON Schema of the scenario format (for editors and validators).
     Schema,
@@ -57,6 +110,42 @@ enum Command {
     Sweep {
         #[command(subcommand)]
         command: SweepCommand,
+    },
+}
+
+#[derive(Subcommand)]
+enum ReportCommand {
+    /// A run, from its result file.
+    Run {
+        #[command(flatten)]
+        args: design::RunPlotArgs,
+        /// The HTML file to write.
+        #[arg(short, long)]
+        output: PathBuf,
+    },
+    /// A settling-curve analysis (flags as for `turbid curve`).
+    Curve {
+        #[command(flatten)]
+        args: design::CurveArgs,
+        /// The HTML file to write.
+        #[arg(short, long)]
+        output: PathBuf,
+    },
+    /// A thickener sizing (flags as for `turbid size`).
+    Size {
+        #[command(flatten)]
+        args: design::SizeArgs,
+        /// The HTML file to write.
+        #[arg(short, long)]
+        output: PathBuf,
+    },
+    /// A fit (flags as for `turbid fit`).
+    Fit {
+        #[command(flatten)]
+        args: design::FitArgs,
+        /// The HTML file to write.
+        #[arg(short, long)]
+        output: PathBuf,
     },
 }
 
@@ -172,6 +261,7 @@ fn run(cli: Cli) -> ExitCode {
             threads,
             progress,
             log_every,
+            plots,
         } => {
             let text = match std::fs::read_to_string(&file) {
                 Ok(t) => t,
@@ -208,6 +298,7 @@ fn run(cli: Cli) -> ExitCode {
                 threads,
                 progress,
                 log_every: std::time::Duration::from_secs_f64(log_every),
+                plots,
             };
             match run::run(&file, &text, &setup, &opts) {
                 Ok(run::Outcome::Complete) => ExitCode::SUCCESS,
@@ -287,6 +378,50 @@ fn run(cli: Cli) -> ExitCode {
                 }
             }
         }
+        Command::Curve { args, json, plots } => finish(design::curve_command(&args), json, &plots),
+        Command::Size { args, json, plots } => finish(design::size_command(&args), json, &plots),
+        Command::Fit { args, json, plots } => finish(design::fit_command(&args), json, &plots),
+        Command::Plot {
+            args,
+            output,
+            format,
+        } => {
+            let dir = output.unwrap_or_else(|| {
+                let stem = args
+                    .result
+                    .file_stem()
+                    .map(|s| s.to_string_lossy().into_owned())
+                    .unwrap_or_else(|| "run".to_owned());
+                args.result.with_file_name(format!("{stem}.plots"))
+            });
+            let result = design::run_outcome(&args)
+                .and_then(|o| design::write_plots(&o.figures, &dir, &format));
+            match result {
+                Ok(files) => {
+                    for f in files {
+                        println!("{}", f.display());
+                    }
+                    ExitCode::SUCCESS
+                }
+                Err(f) => fail(f),
+            }
+        }
+        Command::Report { what } => {
+            let command = std::env::args().collect::<Vec<_>>().join(" ");
+            let (outcome, output) = match what {
+                ReportCommand::Run { args, output } => (design::run_outcome(&args), output),
+                ReportCommand::Curve { args, output } => (design::curve_command(&args), output),
+                ReportCommand::Size { args, output } => (design::size_command(&args), output),
+                ReportCommand::Fit { args, output } => (design::fit_command(&args), output),
+            };
+            match outcome.and_then(|o| report::write(&o, &command, &output)) {
+                Ok(()) => {
+                    println!("{}", output.display());
+                    ExitCode::SUCCESS
+                }
+                Err(f) => fail(f),
+            }
+        }
         Command::Schema => {
             let schema = scenario::json_schema();
             match serde_json::to_string_pretty(&schema) {
@@ -301,4 +436,46 @@ fn run(cli: Cli) -> ExitCode {
             }
         }
     }
+}
+
+/// Print a design command's outcome (text or JSON) and write its plots.
+fn finish(
+    outcome: Result<design::Outcome, design::Failure>,
+    json: bool,
+    plots: &design::PlotArgs,
+) -> ExitCode {
+    let outcome = match outcome {
+        Ok(o) => o,
+        Err(f) => return fail(f),
+    };
+    if json {
+        match serde_json::to_string_pretty(&outcome.json) {
+            Ok(s) => println!("{s}"),
+            Err(e) => {
+                eprintln!("internal error: cannot print the results as JSON: {e}");
+                return ExitCode::from(EXIT_INTERNAL);
+            }
+        }
+    } else {
+        print!("{}", outcome.text);
+    }
+    if let Some(dir) = &plots.plots {
+        match design::write_plots(&outcome.figures, dir, &plots.format) {
+            Ok(files) => {
+                if !json {
+                    println!("\nplots");
+                    for f in files {
+                        println!("  {}", f.display());
+                    }
+                }
+            }
+            Err(f) => return fail(f),
+        }
+    }
+    ExitCode::SUCCESS
+}
+
+fn fail(f: design::Failure) -> ExitCode {
+    eprintln!("{}", f.message);
+    ExitCode::from(f.code)
 }

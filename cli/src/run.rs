@@ -121,6 +121,9 @@ pub struct RunOptions {
     pub threads: usize,
     pub progress: ProgressMode,
     pub log_every: Duration,
+    /// Write the run's plots (PNG and SVG) into this directory; `Some(None)`
+    /// for `<stem>.plots/` beside the result file.
+    pub plots: Option<Option<PathBuf>>,
 }
 
 /// What happened, for the exit code.
@@ -235,6 +238,21 @@ fn run_inner(
         progress.rate(),
         progress.unit,
     );
+    if let Some(dir) = &opts.plots {
+        let dir = dir.clone().unwrap_or_else(|| {
+            let stem = out
+                .file_stem()
+                .map(|s| s.to_string_lossy().into_owned())
+                .unwrap_or_else(|| "run".to_owned());
+            out.with_file_name(format!("{stem}.plots"))
+        });
+        let data = crate::result_file::RunData::from_record(&record);
+        let figures = crate::design::run_figures(&data, &[]);
+        let formats = [crate::plot::Format::Png, crate::plot::Format::Svg];
+        crate::design::write_plots(&figures, &dir, &formats)
+            .map_err(|f| RunError::Failed(f.message))?;
+        println!("  plots              {}", dir.display());
+    }
     if let Some(o) = &record.outlets {
         thickener_summary(o, &outlets_csv);
         let worst = o.worst_residual();
