@@ -23,7 +23,8 @@ pub const CLARIFIED_SHARE: f64 = 0.9;
 pub enum Status {
     /// Reached the end time; the outputs are complete.
     Complete,
-    /// Stopped early by SIGINT/SIGTERM; the frames written are valid.
+    /// Stopped early by SIGINT/SIGTERM; the frames written are valid (and
+    /// `checkpoint` names the file to resume from, if one was written).
     Partial,
     /// The run failed (its `error` says why); outputs may be missing.
     Failed,
@@ -68,6 +69,10 @@ pub struct RunSummary {
     pub clarification_time_90_s: Option<f64>,
     /// Largest relative change of the solids volume over all records.
     pub solids_balance: Option<f64>,
+    /// Checkpoint written when the run was stopped (status `partial`):
+    /// `turbid run --resume` continues from it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub checkpoint: Option<String>,
 }
 
 impl Default for RunSummary {
@@ -94,6 +99,7 @@ impl Default for RunSummary {
             final_bed_height_m: None,
             clarification_time_90_s: None,
             solids_balance: None,
+            checkpoint: None,
         }
     }
 }
