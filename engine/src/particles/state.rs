@@ -216,9 +216,140 @@ impl Engine for ParticleEngine {
     }
 }
 
+/// The resources of a particle run and how a checkpoint treats them: every
+/// resource is either saved (its evolving fields) or rebuilt from the
+/// scenario. A unit test fails when the world holds a resource this list
+/// does not name, so a new one cannot be forgotten.
+pub const RESOURCES: [(&str, &str); 11] = [
+    (
+        "Clock",
+        "saved: time, dt, step, next record, at-record flag",
+    ),
+    (
+        "Bed",
+        "saved: volume (area, packing and gel point from the scenario)",
+    ),
+    (
+        "StageTimes",
+        "saved: parcel updates (wall times are not state)",
+    ),
+    ("Recorder", "saved: frames (layout from the scenario)"),
+    (
+        "Tank",
+        "saved: carries, ledger, next id, outlet flags, intervals, samples",
+    ),
+    ("ClassTable", "from the scenario"),
+    ("Vessel", "from the scenario"),
+    ("Network", "from the scenario (bed compression only)"),
+    (
+        "KernelRes",
+        "from the scenario (opened at the outlets for a thickener)",
+    ),
+    (
+        "Search",
+        "rebuilt from the parcels at the start of every step",
+    ),
+    ("(bevy internals)", "none of ours"),
+];
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    const TANK: &str = r#"format: 1
+title: invented tank for unit tests
+fluid:
+  water: { temperature: "15 °C" }
+solids:
+  - name: invented flocs
+    density: "1450 kg/m³"
+    size: { single: "100 µm" }
+vessel:
+  thickener:
+    height: "0.5 m"
+    feed_level: "0.3 m"
+    cross_section: { round: { diameter: "0.5 m" } }
+initial:
+  loading: "2 g/L"
+operation:
+  feed_flow: "0.4 m³/h"
+  feed_solids: "3.0 g/L"
+  underflow: { flow: "0.15 m³/h" }
+models:
+  hindered:
+    vesilind: { v0: "8 m/h", k: "0.5 L/g" }
+  max_packing: 0.6
+run:
+  end_time: "10 min"
+  output_interval: "1 min"
+  parcels: 500
+  engine: particles
+output:
+  file: out/unit.h5
+  height_bins: 20
+"#;
+
+    #[test]
+    fn checkpoints_cover_every_component_and_resource_of_a_run() {
+        // A thickener, so both spawn sites (the initial parcels and the feed)
+        // have made parcels.
+        let setup = crate::scenario::parse_str(TANK, std::path::Path::new("t.yaml")).unwrap();
+        let mut engine = ParticleEngine::new(&setup, TANK, 1).unwrap();
+        let first = engine.parcel_ids_in_table_order().len() as u32;
+        while engine.time() < 120.0 {
+            Engine::step(&mut engine);
+        }
+        let world = &mut engine.world;
+        let mut q = world.query_filtered::<Entity, With<Parcel>>();
+        let parcels: Vec<Entity> = q.iter(world).collect();
+        let ids = engine.parcel_ids_in_table_order();
+        assert!(ids.iter().any(|&i| i >= first), "no parcel was fed");
+        let world = &engine.world;
+        for e in parcels {
+            // A parcel with a component the checkpoint does not save fails
+            // here: add it to `ParcelComponents`, `save_parcel`, `load_parcel`.
+            assert_eq!(
+                world.entity(e).archetype().component_count(),
+                PARCEL_COMPONENTS
+            );
+        }
+        // A new resource fails here: save what evolves in it (`save_state`,
+        // `restore_state`) and name it in `RESOURCES`.
+        let known: Vec<_> = [
+            world.component_id::<Clock>(),
+            world.component_id::<Bed>(),
+            world.component_id::<StageTimes>(),
+            world.component_id::<Recorder>(),
+            world.component_id::<Tank>(),
+            world.component_id::<ClassTable>(),
+            world.component_id::<Vessel>(),
+            world.component_id::<Network>(),
+            world.component_id::<KernelRes>(),
+            world.component_id::<Search>(),
+        ]
+        .into_iter()
+        .flatten()
+        .collect();
+        assert_eq!(
+            known.len(),
+            RESOURCES.len() - 1,
+            "RESOURCES lists every type above"
+        );
+        let unknown = world
+            .iter_resources()
+            .filter(|(id, _, _)| !known.contains(id))
+            .count();
+        // What bevy itself keeps in a world that ran a schedule and despawned.
+        let mut fresh = World::new();
+        let mut schedule = Schedule::new(super::super::Step);
+        schedule.set_executor(bevy_ecs::schedule::SingleThreadedExecutor::new());
+        schedule.add_systems(|| {});
+        schedule.run(&mut fresh);
+        let e = fresh.spawn(Resting(false)).id();
+        fresh.despawn(e);
+        let internal = fresh.iter_resources().count();
+        assert_eq!(unknown, internal, "a resource the checkpoint does not know");
+    }
 
     #[test]
     fn checkpoints_list_every_parcel_component() {
