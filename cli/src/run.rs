@@ -1,5 +1,6 @@
-//! `turbid run`: run a scenario with the particle engine, show progress, and
-//! write the results atomically (partial results on interrupt).
+//! `turbid run`: run a scenario with either engine (through the shared
+//! `engine::run` loop), show progress, write checkpoints, and write the
+//! results atomically (partial results and a checkpoint on interrupt).
 
 use indicatif::{HumanDuration, ProgressBar, ProgressDrawTarget, ProgressStyle};
 use std::io::IsTerminal;
