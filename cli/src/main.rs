@@ -2,8 +2,10 @@
 //!
 //! Exit codes: 0 success, 2 invalid input (the message says where and why),
 //! 1 internal failure (a bug: please report it, or an output that could not be
-//! written), 3 interrupted by SIGINT/SIGTERM (partial results were written),
-//! 4 (sweeps) some runs failed or are not complete.
+//! written), 3 interrupted by SIGINT/SIGTERM without a checkpoint (partial
+//! results were written), 4 (sweeps) some runs failed or are not complete,
+//! 5 stopped by SIGINT/SIGTERM with a checkpoint (partial results were
+//! written; rerun with `--resume` to continue).
 
 mod atomic;
 mod design;
@@ -54,6 +56,15 @@ enum Command {
         /// Seconds between plain progress lines when not on a terminal.
         #[arg(long, default_value_t = 10.0)]
         log_every: f64,
+        /// Checkpoint file (default: `<stem>.checkpoint` beside the result file).
+        #[arg(long)]
+        checkpoint: Option<PathBuf>,
+        /// Minutes of wall time between checkpoints; 0 turns checkpoints off (also on SIGTERM).
+        #[arg(long, default_value_t = 10.0)]
+        checkpoint_every: f64,
+        /// Continue from the checkpoint (it must exist and belong to this scenario).
+        #[arg(long)]
+        resume: bool,
         /// Also write the plots (PNG and SVG) into DIR (default: `<stem>.plots/` beside the result).
         #[arg(long, value_name = "DIR", num_args = 0..=1)]
         plots: Option<Option<PathBuf>>,
@@ -219,6 +230,8 @@ const EXIT_INVALID_INPUT: u8 = 2;
 const EXIT_INTERNAL: u8 = 1;
 /// Interrupted by SIGINT or SIGTERM; the partial results were written.
 pub(crate) const EXIT_INTERRUPTED: u8 = 3;
+/// Stopped by SIGINT or SIGTERM with a checkpoint written: rerun with `--resume`.
+pub(crate) const EXIT_CHECKPOINTED: u8 = 5;
 
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
@@ -261,6 +274,9 @@ fn run(cli: Cli) -> ExitCode {
             threads,
             progress,
             log_every,
+            checkpoint,
+            checkpoint_every,
+            resume,
             plots,
         } => {
             let text = match std::fs::read_to_string(&file) {
@@ -293,16 +309,35 @@ fn run(cli: Cli) -> ExitCode {
                 eprintln!("error: --threads must be at least 1");
                 return ExitCode::from(EXIT_INVALID_INPUT);
             }
+            if !(checkpoint_every.is_finite() && checkpoint_every >= 0.0) {
+                eprintln!("error: --checkpoint-every must be a number of minutes, 0 or more");
+                return ExitCode::from(EXIT_INVALID_INPUT);
+            }
+            if resume && checkpoint_every == 0.0 {
+                eprintln!(
+                    "error: --resume needs checkpoints; drop --checkpoint-every 0 (or give it minutes)"
+                );
+                return ExitCode::from(EXIT_INVALID_INPUT);
+            }
             let opts = run::RunOptions {
                 output,
                 threads,
                 progress,
                 log_every: std::time::Duration::from_secs_f64(log_every),
+                checkpoint,
+                checkpoint_every: (checkpoint_every > 0.0)
+                    .then(|| std::time::Duration::from_secs_f64(checkpoint_every.min(1e9) * 60.0)),
+                resume,
                 plots,
             };
             match run::run(&file, &text, &setup, &opts) {
                 Ok(run::Outcome::Complete) => ExitCode::SUCCESS,
                 Ok(run::Outcome::Interrupted) => ExitCode::from(EXIT_INTERRUPTED),
+                Ok(run::Outcome::Checkpointed) => ExitCode::from(EXIT_CHECKPOINTED),
+                Err(run::RunError::NoResume(e)) => {
+                    eprintln!("error: {}: {e}", file.display());
+                    ExitCode::from(EXIT_INVALID_INPUT)
+                }
                 Err(run::RunError::Unsupported(e)) => {
                     eprintln!("error: {}: {e}", file.display());
                     ExitCode::from(EXIT_INVALID_INPUT)

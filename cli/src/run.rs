@@ -1,5 +1,6 @@
-//! `turbid run`: run a scenario with the particle engine, show progress, and
-//! write the results atomically (partial results on interrupt).
+//! `turbid run`: run a scenario with either engine (through the shared
+//! `engine::run` loop), show progress, write checkpoints, and write the
+//! results atomically (partial results and a checkpoint on interrupt).
 
 use indicatif::{HumanDuration, ProgressBar, ProgressDrawTarget, ProgressStyle};
 use std::io::IsTerminal;
@@ -8,6 +9,7 @@ use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
 use turbid_engine::continuum::ContinuumEngine;
+use turbid_engine::engine::{Checkpoints, Engine};
 use turbid_engine::output;
 use turbid_engine::particles::{EngineError, Monitor, ParticleEngine};
 use turbid_engine::record::{BALANCE_TOLERANCE, OutletSeries, RunRecord, RunStatus};
@@ -33,6 +35,8 @@ struct Progress {
     started: Instant,
     last_log: Instant,
     parcel_steps: u64,
+    /// Work already done when this process started (a resumed run).
+    baseline: u64,
     /// What one update is ("parcel" or "cell"), for the rate.
     unit: &'static str,
 }
@@ -70,12 +74,14 @@ impl Progress {
             started: now,
             last_log: now,
             parcel_steps: 0,
+            baseline: 0,
             unit,
         }
     }
 
     fn rate(&self) -> f64 {
-        self.parcel_steps as f64 / self.started.elapsed().as_secs_f64().max(1e-9)
+        self.parcel_steps.saturating_sub(self.baseline) as f64
+            / self.started.elapsed().as_secs_f64().max(1e-9)
     }
 
     fn finish(&self) {
@@ -124,18 +130,77 @@ pub struct RunOptions {
     /// Write the run's plots (PNG and SVG) into this directory; `Some(None)`
     /// for `<stem>.plots/` beside the result file.
     pub plots: Option<Option<PathBuf>>,
+    /// Checkpoint file (default `<stem>.checkpoint` beside the result file).
+    pub checkpoint: Option<PathBuf>,
+    /// Wall time between checkpoints; `None`: no checkpoints at all (not even
+    /// on a signal).
+    pub checkpoint_every: Option<Duration>,
+    /// Continue from the checkpoint.
+    pub resume: bool,
+}
+
+/// `<stem>.checkpoint` beside the result file.
+pub fn checkpoint_path(h5_path: &Path) -> PathBuf {
+    let stem = h5_path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "run".to_owned());
+    h5_path.with_file_name(format!("{stem}.checkpoint"))
 }
 
 /// What happened, for the exit code.
 pub enum Outcome {
     Complete,
+    /// Stopped by a signal without a checkpoint (exit 3).
     Interrupted,
+    /// Stopped by a signal; a checkpoint was written (exit 5).
+    Checkpointed,
+}
+
+/// Checkpoints every `every` of wall time, written atomically.
+struct WallClock {
+    path: PathBuf,
+    every: Duration,
+    last: Instant,
+}
+
+impl WallClock {
+    fn write(&mut self, engine: &mut dyn Engine) -> std::io::Result<()> {
+        let bytes = engine.checkpoint();
+        crate::atomic::write(&self.path, &bytes)?;
+        self.last = Instant::now();
+        eprintln!(
+            "checkpoint: t = {:.1} s, {} records, written to {}",
+            engine.time(),
+            engine.frames_recorded(),
+            self.path.display()
+        );
+        Ok(())
+    }
+}
+
+impl Checkpoints for WallClock {
+    fn due(&mut self) -> bool {
+        self.last.elapsed() >= self.every
+    }
+    fn save(&mut self, engine: &mut dyn Engine) {
+        if let Err(e) = self.write(engine) {
+            // The run goes on; the next attempt comes after another interval.
+            self.last = Instant::now();
+            eprintln!(
+                "warning: cannot write the checkpoint {}: {e}",
+                self.path.display()
+            );
+        }
+    }
 }
 
 /// Why a run did not happen or did not finish.
 pub enum RunError {
     /// The scenario asks for something the engine cannot do (exit 2).
     Unsupported(String),
+    /// `--resume` without a usable checkpoint (exit 2).
+    NoResume(String),
     /// Something failed (exit 1).
     Failed(String),
 }
@@ -144,7 +209,7 @@ pub enum RunError {
 /// result file (a sweep reports it and redoes the run next time).
 pub fn run(file: &Path, text: &str, setup: &Setup, opts: &RunOptions) -> Result<Outcome, RunError> {
     let result = run_inner(file, text, setup, opts);
-    if let Err(RunError::Unsupported(e) | RunError::Failed(e)) = &result {
+    if let Err(RunError::Unsupported(e) | RunError::Failed(e) | RunError::NoResume(e)) = &result {
         let out = opts
             .output
             .clone()
@@ -181,9 +246,9 @@ fn run_inner(
         other => RunError::Failed(other.to_string()),
     };
     let wall = Instant::now();
-    let (record, progress) = match setup.engine {
+    let (mut engine, unit): (Box<dyn Engine>, &'static str) = match setup.engine {
         EngineSpec::Particles => {
-            let mut engine = ParticleEngine::new(setup, text, opts.threads).map_err(refused)?;
+            let engine = ParticleEngine::new(setup, text, opts.threads).map_err(refused)?;
             let (a, b) = engine.kernel_size();
             eprintln!(
                 "turbid: {} — particle engine, {} parcels, {} threads, concentration window {:.2} mm across × {:.2} mm ahead",
@@ -193,23 +258,66 @@ fn run_inner(
                 2.0 * a * 1e3,
                 b * 1e3
             );
-            let mut progress =
-                Progress::new(opts.progress, setup.run.end_time, opts.log_every, "parcel");
-            (engine.run(&mut progress, Some(&stop)), progress)
+            (Box::new(engine), "parcel")
         }
         EngineSpec::Continuum => {
-            let mut engine = ContinuumEngine::new(setup, text).map_err(refused)?;
+            let engine = ContinuumEngine::new(setup, text).map_err(refused)?;
             eprintln!(
                 "turbid: {} — continuum engine, {} cells of {:.2} mm",
                 file.display(),
                 engine.cells(),
                 engine.cell_height() * 1e3
             );
-            let mut progress =
-                Progress::new(opts.progress, setup.run.end_time, opts.log_every, "cell");
-            (engine.run(&mut progress, Some(&stop)), progress)
+            (Box::new(engine), "cell")
         }
     };
+    let checkpoint = opts
+        .checkpoint
+        .clone()
+        .unwrap_or_else(|| checkpoint_path(&out));
+    if opts.resume {
+        let bytes = std::fs::read(&checkpoint).map_err(|e| {
+            RunError::NoResume(format!(
+                "cannot resume: no checkpoint at {} ({e}); run without --resume to start from the beginning",
+                checkpoint.display()
+            ))
+        })?;
+        engine.restore(&bytes).map_err(|e| {
+            RunError::NoResume(format!("cannot resume from {}: {e}", checkpoint.display()))
+        })?;
+        eprintln!(
+            "turbid: resumed from {} at t = {:.1} s ({} records so far)",
+            checkpoint.display(),
+            engine.time(),
+            engine.frames_recorded()
+        );
+    }
+    let mut progress = Progress::new(opts.progress, setup.run.end_time, opts.log_every, unit);
+    progress.baseline = engine.work_done();
+    let mut saver = opts.checkpoint_every.map(|every| WallClock {
+        path: checkpoint.clone(),
+        every,
+        last: Instant::now(),
+    });
+    let record = turbid_engine::engine::run(
+        engine.as_mut(),
+        &mut progress,
+        Some(&stop),
+        saver.as_mut().map(|s| s as &mut dyn Checkpoints),
+    );
+    // Stopped by a signal: save where it stands, so `--resume` continues.
+    let mut checkpointed = false;
+    if record.status == RunStatus::Partial
+        && let Some(s) = saver.as_mut()
+    {
+        match s.write(engine.as_mut()) {
+            Ok(()) => checkpointed = true,
+            Err(e) => eprintln!(
+                "warning: cannot write the checkpoint {}: {e}; the run must start again",
+                checkpoint.display()
+            ),
+        }
+    }
     progress.finish();
     output::write_netcdf(&record, &out).map_err(|e| RunError::Failed(e.to_string()))?;
     output::write_settling_csv(&record, &csv).map_err(|e| RunError::Failed(e.to_string()))?;
@@ -227,9 +335,22 @@ fn run_inner(
     machine.threads = opts.threads;
     machine.end_time_s = setup.run.end_time;
     machine.wall_time_s = wall.elapsed().as_secs_f64();
+    if checkpointed {
+        machine.checkpoint = Some(checkpoint.display().to_string());
+    }
     machine
         .write(&summary_file)
         .map_err(|e| RunError::Failed(format!("cannot write {}: {e}", summary_file.display())))?;
+    if record.status == RunStatus::Complete && checkpoint.exists() {
+        // Finished: a checkpoint left from an earlier stop is stale now.
+        let _ = std::fs::remove_file(&checkpoint);
+    }
+    if checkpointed {
+        println!(
+            "  checkpoint         {} (continue with --resume)",
+            checkpoint.display()
+        );
+    }
     summary(
         &record,
         &out,
@@ -265,6 +386,7 @@ fn run_inner(
     }
     Ok(match record.status {
         RunStatus::Complete => Outcome::Complete,
+        RunStatus::Partial if checkpointed => Outcome::Checkpointed,
         RunStatus::Partial => Outcome::Interrupted,
     })
 }

@@ -23,7 +23,8 @@ pub const CLARIFIED_SHARE: f64 = 0.9;
 pub enum Status {
     /// Reached the end time; the outputs are complete.
     Complete,
-    /// Stopped early by SIGINT/SIGTERM; the frames written are valid.
+    /// Stopped early by SIGINT/SIGTERM; the frames written are valid (and
+    /// `checkpoint` names the file to resume from, if one was written).
     Partial,
     /// The run failed (its `error` says why); outputs may be missing.
     Failed,
@@ -75,6 +76,10 @@ pub struct RunSummary {
     pub final_underflow_concentration_kg_m3: Option<f64>,
     pub final_overflow_concentration_kg_m3: Option<f64>,
     pub final_blanket_level_m: Option<f64>,
+    /// Checkpoint written when the run was stopped (status `partial`):
+    /// `turbid run --resume` continues from it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub checkpoint: Option<String>,
 }
 
 impl Default for RunSummary {
@@ -104,6 +109,7 @@ impl Default for RunSummary {
             final_underflow_concentration_kg_m3: None,
             final_overflow_concentration_kg_m3: None,
             final_blanket_level_m: None,
+            checkpoint: None,
         }
     }
 }

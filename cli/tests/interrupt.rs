@@ -1,5 +1,6 @@
 //! A run stopped by SIGTERM (what batch schedulers send before a time limit)
-//! writes the frames recorded so far, marks them partial and exits with 3.
+//! without checkpoints writes the frames recorded so far, marks them partial
+//! and exits with 3.
 
 use std::path::Path;
 use std::process::{Command, Stdio};
@@ -23,6 +24,9 @@ fn sigterm_writes_partial_results_and_exits_3() {
             out.to_str().unwrap(),
             "--progress",
             "none",
+            // No checkpoints: the plain interrupt (with one: exit 5, see checkpoint.rs).
+            "--checkpoint-every",
+            "0",
         ])
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())

@@ -441,7 +441,7 @@ fn a_sweep_killed_midway_and_restarted_redoes_only_the_unfinished_runs() {
 }
 
 #[test]
-fn sigterm_stops_a_sweep_whose_runs_save_partial_results() {
+fn sigterm_stops_a_sweep_whose_runs_save_checkpoints() {
     let dir = temp_dir("sweep-term");
     // Long enough runs (about 10 s each here) to be caught in flight.
     write(&dir.join("base.yaml"), &base(40000));
@@ -497,9 +497,10 @@ fn sigterm_stops_a_sweep_whose_runs_save_partial_results() {
     );
     let (_, rows) = table(&read(&dir.join("out/seeds/summary.csv")));
     let status: Vec<&str> = rows.iter().map(|r| r[1].as_str()).collect();
+    // Stopped runs left checkpoints: they are resumable, not merely partial.
     assert_eq!(
         status,
-        ["partial", "partial", "missing"],
+        ["resumable", "resumable", "missing"],
         "{stdout}{stderr}"
     );
     std::fs::remove_dir_all(&dir).ok();
@@ -580,4 +581,76 @@ output:
             "Q_u = {q_u} m³/h: underflow {got} kg/m³, mass balance {want}"
         );
     }
+}
+
+#[test]
+fn a_restarted_pool_resumes_runs_from_their_checkpoints() {
+    let dir = temp_dir("sweep-resume");
+    write(&dir.join("base.yaml"), &base(6000));
+    write(
+        &dir.join("one.yaml"),
+        "sweep: 1\nbase: base.yaml\nlist:\n  run.seed: [4]\n",
+    );
+    let expand = run_in(&dir, &["sweep", "expand", "one.yaml"]);
+    assert!(expand.status.success(), "{}", text(&expand.stderr));
+    let runs = dir.join("out/one/runs");
+    let scenario = std::fs::read_dir(&runs)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .find(|p| p.extension().is_some_and(|x| x == "yaml"))
+        .expect("the run's scenario file");
+    let output = scenario.with_extension("h5");
+    let checkpoint = scenario.with_extension("checkpoint");
+    // Stop the run by hand once it has written a checkpoint (as a Slurm
+    // time limit would).
+    let mut child = turbid()
+        .current_dir(&dir)
+        .arg("run")
+        .arg(&scenario)
+        .arg("-o")
+        .arg(&output)
+        .args([
+            "--threads",
+            "1",
+            "--progress",
+            "none",
+            "--checkpoint-every",
+            "0.003",
+        ])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let t0 = Instant::now();
+    while !checkpoint.exists() {
+        assert!(
+            child.try_wait().unwrap().is_none(),
+            "ended before a checkpoint"
+        );
+        assert!(t0.elapsed() < Duration::from_secs(60), "no checkpoint");
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    let status = std::process::Command::new("kill")
+        .args(["-TERM", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(status.success());
+    assert_eq!(child.wait().unwrap().code(), Some(5));
+    // The pool continues it with `--resume` instead of starting over.
+    let again = run_in(&dir, &["sweep", "run", "one.yaml"]);
+    let (stdout, stderr) = (text(&again.stdout), text(&again.stderr));
+    assert!(again.status.success(), "{stdout}{stderr}");
+    assert!(
+        stderr.contains("with a checkpoint; continuing from it"),
+        "{stderr}"
+    );
+    let log = std::fs::read_dir(dir.join("out/one/logs"))
+        .unwrap()
+        .map(|e| read(&e.unwrap().path()))
+        .collect::<String>();
+    assert!(log.contains("resumed from"), "{log}");
+    assert!(!checkpoint.exists());
+    let (_, rows) = table(&read(&dir.join("out/one/summary.csv")));
+    assert_eq!(rows[0][1], "complete");
+    std::fs::remove_dir_all(&dir).ok();
 }

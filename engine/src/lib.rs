@@ -14,9 +14,13 @@
 //! * [`record`] — what a run records (profiles, settling curve, inventory,
 //!   outlets of a thickener).
 //! * [`output`] — result files: NetCDF-4 (CF) and the settling-curve CSV.
+//! * [`engine`] — the [`engine::Engine`] trait both engines implement, and
+//!   their shared run loop; [`checkpoint`] — the binary checkpoint format.
 
 pub mod analysis;
+pub mod checkpoint;
 pub mod continuum;
+pub mod engine;
 pub mod operation;
 pub mod output;
 pub mod particles;

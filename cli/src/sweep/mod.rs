@@ -140,6 +140,10 @@ pub struct Sweep {
 /// Largest number of runs one sweep file may expand to.
 const MAX_RUNS: usize = 1_000_000;
 
+/// The label of an unfinished run that left a checkpoint: the pool and the
+/// Slurm script continue it with `turbid run --resume`.
+pub const RESUMABLE: &str = "resumable";
+
 /// What [`Sweep::done`] found for a run.
 #[derive(Debug, Clone, PartialEq)]
 pub enum RunState {
@@ -595,9 +599,16 @@ impl Sweep {
                     )
                 }
             }
-            Status::Partial => {
-                RunState::Unfinished("partial", "interrupted before its end time".into())
-            }
+            Status::Partial => match s.checkpoint.as_deref().map(Path::new) {
+                Some(c) if c.exists() => RunState::Unfinished(
+                    RESUMABLE,
+                    format!(
+                        "stopped at t = {:.1} s with a checkpoint; continuing from it",
+                        s.simulated_time_s.unwrap_or(0.0)
+                    ),
+                ),
+                _ => RunState::Unfinished("partial", "interrupted before its end time".into()),
+            },
             Status::Failed => RunState::Unfinished(
                 "failed",
                 format!(

@@ -9,10 +9,10 @@
 //! the sweep, even with SIGKILL, stops its runs too: nothing keeps running
 //! unattended, and a restart redoes exactly the runs without a complete summary.
 
-use super::{EXIT_SOME_FAILED, Failure, Run, RunState, Sweep};
+use super::{EXIT_SOME_FAILED, Failure, RESUMABLE, Run, RunState, Sweep};
 use crate::run::ProgressMode;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use std::collections::{HashMap, VecDeque};
+use std::collections::{HashMap, HashSet, VecDeque};
 use std::fs::OpenOptions;
 use std::io::{IsTerminal, Write};
 use std::os::unix::process::CommandExt;
@@ -47,6 +47,8 @@ struct Event {
 
 /// Exit code of `turbid run` when SIGINT/SIGTERM stopped it.
 const RUN_INTERRUPTED: i32 = 3;
+/// A run's exit code when it stopped on a signal and left a checkpoint.
+const RUN_CHECKPOINTED: i32 = crate::EXIT_CHECKPOINTED as i32;
 
 pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
     let sweep = Sweep::load(file)?;
@@ -72,10 +74,16 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
 
     let mut pending = VecDeque::new();
     let mut skipped = 0;
+    let mut resume = HashSet::new();
     for r in &sweep.runs {
         match sweep.state(r) {
             RunState::Complete(_) => skipped += 1,
             RunState::Missing => pending.push_back(r.number),
+            RunState::Unfinished(RESUMABLE, why) => {
+                eprintln!("run {}: {why}", r.number);
+                resume.insert(r.number);
+                pending.push_back(r.number);
+            }
             RunState::Unfinished(label, why) => {
                 eprintln!("run {}: redoing it ({label}: {why})", r.number);
                 pending.push_back(r.number);
@@ -110,8 +118,8 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
     std::thread::scope(|scope| {
         for _ in 0..jobs.min(todo) {
             let tx = tx.clone();
-            let (queue, running, stop, by_number, exe) =
-                (&queue, &running, &stop, &by_number, &exe);
+            let (queue, running, stop, by_number, exe, resume) =
+                (&queue, &running, &stop, &by_number, &exe, &resume);
             scope.spawn(move || {
                 loop {
                     if stop.load(Ordering::SeqCst) {
@@ -122,7 +130,8 @@ pub fn run(file: &std::path::Path, opts: &LocalOptions) -> Result<u8, Failure> {
                     };
                     let run = by_number[&number];
                     let started = Instant::now();
-                    let outcome = run_one(exe, run, threads, running, stop);
+                    let outcome =
+                        run_one(exe, run, threads, resume.contains(&number), running, stop);
                     let _ = tx.send(Event {
                         number,
                         outcome,
@@ -228,6 +237,7 @@ fn run_one(
     exe: &PathBuf,
     run: &Run,
     threads: usize,
+    resume: bool,
     running: &Mutex<HashMap<usize, u32>>,
     stop: &AtomicBool,
 ) -> Outcome {
@@ -253,6 +263,7 @@ fn run_one(
         .arg(&run.output)
         .args(["--threads", &threads.to_string()])
         .args(["--progress", "log", "--log-every", "60"])
+        .args(resume.then_some("--resume"))
         .stdin(Stdio::null())
         .stdout(log)
         .stderr(err_log);
@@ -291,7 +302,7 @@ fn run_one(
     };
     match code {
         Some(0) => Outcome::Complete,
-        Some(RUN_INTERRUPTED) => Outcome::Interrupted,
+        Some(RUN_INTERRUPTED | RUN_CHECKPOINTED) => Outcome::Interrupted,
         Some(c) => Outcome::Failed(format!("exit code {c}: {}", last_error(&run.log))),
         None => Outcome::Failed("killed by a signal".into()),
     }

@@ -255,11 +255,20 @@ fn script(sweep: &Sweep, res: &Resources, turbid: &Path, max_index: u32) -> Stri
     );
     let _ = writeln!(
         s,
-        "# SIGTERM (at or before the time limit) reaches turbid, which saves partial results and exits 3."
+        "# SIGTERM (at or before the time limit) reaches turbid, which saves partial results and a"
     );
     let _ = writeln!(
         s,
-        "exec \"$turbid\" run \"$runs/run-$id.yaml\" -o \"$runs/run-$id.h5\" --threads \"${{SLURM_CPUS_PER_TASK:-1}}\" --progress log --log-every 60"
+        "# checkpoint and exits 5; a requeued or resubmitted task continues from that checkpoint."
+    );
+    let _ = writeln!(s, "resume=");
+    let _ = writeln!(
+        s,
+        "if [ -f \"$runs/run-$id.checkpoint\" ]; then resume=--resume; fi"
+    );
+    let _ = writeln!(
+        s,
+        "exec \"$turbid\" run \"$runs/run-$id.yaml\" -o \"$runs/run-$id.h5\" --threads \"${{SLURM_CPUS_PER_TASK:-1}}\" --progress log --log-every 60 $resume"
     );
     s
 }

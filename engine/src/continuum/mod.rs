@@ -85,6 +85,7 @@
 pub mod scalar;
 pub mod system;
 
+use crate::checkpoint::{CheckpointError, Reader, Writer};
 use crate::operation::{Operation, OutletLedger};
 use crate::particles::{EngineError, Monitor};
 use crate::physics::compression::PowerLawStress;
@@ -97,7 +98,7 @@ pub use scalar::Bulk;
 pub use scalar::Reconstruction;
 use scalar::{BedDiffusion, ScalarFlux, ScalarSolver};
 use std::sync::Arc;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::AtomicBool;
 pub use system::CentralFlux;
 use system::{MlbFlux, SystemSolver};
 
@@ -472,16 +473,7 @@ impl ContinuumEngine {
     /// Run to the end time, or until `stop` is raised (then the record is
     /// partial). Reports cell updates (cells × steps) as the work done.
     pub fn run(&mut self, monitor: &mut dyn Monitor, stop: Option<&Arc<AtomicBool>>) -> RunRecord {
-        let mut status = RunStatus::Complete;
-        while !self.finished() {
-            if stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
-                status = RunStatus::Partial;
-                break;
-            }
-            self.step();
-            monitor.step(self.time, self.end, self.steps * self.cells as u64);
-        }
-        self.record(status)
+        crate::engine::run(self, monitor, stop, None)
     }
 
     /// The record so far.
@@ -557,6 +549,114 @@ impl ContinuumEngine {
     /// Packing limit φmax of the run.
     pub fn max_packing(&self) -> f64 {
         self.phi_max
+    }
+}
+
+impl crate::engine::Engine for ContinuumEngine {
+    fn name(&self) -> &'static str {
+        "continuum"
+    }
+    fn time(&self) -> f64 {
+        self.time
+    }
+    fn end_time(&self) -> f64 {
+        self.end
+    }
+    fn step(&mut self) {
+        ContinuumEngine::step(self)
+    }
+    fn finished(&self) -> bool {
+        ContinuumEngine::finished(self)
+    }
+    fn record(&self, status: RunStatus) -> RunRecord {
+        ContinuumEngine::record(self, status)
+    }
+    fn frames_recorded(&self) -> usize {
+        self.frames.len()
+    }
+    fn work_done(&self) -> u64 {
+        self.steps * self.cells as u64
+    }
+    fn scenario_text(&self) -> &str {
+        &self.scenario_yaml
+    }
+
+    /// Time, counters, frames, the cell values and the thickener's ledger
+    /// and samples. The solvers' other buffers (fluxes, stages, the bulk
+    /// flow, boundary crossings) are set or emptied within every step.
+    fn save_state(&mut self, w: &mut Writer) {
+        w.f64(self.time);
+        w.u64(self.next_record);
+        w.u64(self.steps);
+        w.frames(&self.frames);
+        match &self.solver {
+            Solver::Scalar(s) => {
+                w.f64s(&s.phi);
+                w.u64(s.capped);
+                w.u64(0);
+            }
+            Solver::System(s) => {
+                w.f64s(&s.phi);
+                w.u64(s.capped);
+                w.u64(s.retries);
+            }
+        }
+        match &self.thickener {
+            Some(t) => {
+                w.bool(true);
+                w.f64s(&t.ledger.fed);
+                w.f64s(&t.ledger.underflow);
+                w.f64s(&t.ledger.overflow);
+                w.f64s(&t.ledger.initial_inventory);
+                w.samples(&t.samples);
+            }
+            None => w.bool(false),
+        }
+    }
+
+    fn restore_state(&mut self, r: &mut Reader) -> Result<(), CheckpointError> {
+        self.time = r.f64()?;
+        self.next_record = r.u64()?;
+        self.steps = r.u64()?;
+        let frames = r.frames()?;
+        let bins = self.layout.nz() * self.classes();
+        if frames.iter().any(|f| f.phi_class.len() != bins) {
+            return Err(CheckpointError::Mismatch(
+                "its frames have another number of height bins or classes".into(),
+            ));
+        }
+        self.frames = frames;
+        let n = self.cells * self.classes();
+        match &mut self.solver {
+            Solver::Scalar(s) => {
+                s.phi = r.f64s_of(n, "the cell array")?;
+                s.capped = r.u64()?;
+                r.u64()?;
+            }
+            Solver::System(s) => {
+                s.phi = r.f64s_of(n, "the cell array")?;
+                s.capped = r.u64()?;
+                s.retries = r.u64()?;
+            }
+        }
+        let has = r.bool()?;
+        match (has, &mut self.thickener) {
+            (true, Some(t)) => {
+                let nc = t.ledger.fed.len();
+                t.ledger.fed = r.f64s_of(nc, "the ledger")?;
+                t.ledger.underflow = r.f64s_of(nc, "the ledger")?;
+                t.ledger.overflow = r.f64s_of(nc, "the ledger")?;
+                t.ledger.initial_inventory = r.f64s_of(nc, "the ledger")?;
+                t.samples = r.samples()?;
+            }
+            (false, None) => {}
+            _ => {
+                return Err(CheckpointError::Mismatch(
+                    "thickener state in a batch run or the reverse".into(),
+                ));
+            }
+        }
+        Ok(())
     }
 }
 

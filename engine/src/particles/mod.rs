@@ -9,6 +9,7 @@ pub mod kernel;
 pub mod neighbours;
 pub mod pipeline;
 pub mod random;
+pub mod state;
 pub mod thickener;
 
 use crate::physics::compression::PowerLawStress;
@@ -21,7 +22,7 @@ use kernel::Kernel;
 use neighbours::NeighbourSearch;
 use pipeline::*;
 use std::sync::Arc;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::AtomicBool;
 
 #[derive(ScheduleLabel, Debug, Clone, PartialEq, Eq, Hash)]
 struct Step;
@@ -340,20 +341,7 @@ impl ParticleEngine {
 
     /// Run to the end time, or until `stop` is raised (then the record is partial).
     pub fn run(&mut self, monitor: &mut dyn Monitor, stop: Option<&Arc<AtomicBool>>) -> RunRecord {
-        let mut status = RunStatus::Complete;
-        while !self.finished() {
-            if stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
-                status = RunStatus::Partial;
-                break;
-            }
-            self.step();
-            let (t, end) = {
-                let c = self.world.resource::<Clock>();
-                (c.time, c.end)
-            };
-            monitor.step(t, end, self.stage_times().parcel_steps);
-        }
-        self.record(status)
+        crate::engine::run(self, monitor, stop, None)
     }
 
     /// The record so far.
@@ -400,6 +388,13 @@ impl ParticleEngine {
             .collect();
         out.sort_by_key(|s| s.id);
         out
+    }
+
+    /// Parcel ids in the order the ECS table holds them (the order in which
+    /// sums over parcels run; see [`state`]).
+    pub fn parcel_ids_in_table_order(&mut self) -> Vec<u32> {
+        let mut q = self.world.query::<&Parcel>();
+        q.iter(&self.world).map(|p| p.id).collect()
     }
 
     /// Wall time per pipeline stage and parcel updates so far.

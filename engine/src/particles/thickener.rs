@@ -112,6 +112,7 @@
 use super::geometry::Section;
 use super::pipeline::*;
 use super::random;
+use crate::checkpoint::{CheckpointError, Reader, Writer};
 use crate::operation::{Operation, OutletLedger};
 use crate::record::{OutletSample, OutletSeries, blanket_level};
 use crate::scenario::Setup;
@@ -244,6 +245,52 @@ impl Tank {
             left: vec![false; next_id as usize],
             samples: Vec::new(),
         }
+    }
+
+    /// Append the evolving state to a checkpoint (see `super::state`).
+    pub fn save(&self, w: &mut Writer) {
+        w.f64s(&self.carry);
+        w.u32(self.next_id);
+        w.f64s(&self.ledger.fed);
+        w.f64s(&self.ledger.underflow);
+        w.f64s(&self.ledger.overflow);
+        w.f64s(&self.ledger.initial_inventory);
+        w.f64s(&self.step_underflow);
+        w.f64s(&self.step_overflow);
+        w.f64s(&self.interval_underflow);
+        w.f64s(&self.interval_overflow);
+        w.f64(self.interval_underflow_flow);
+        w.f64(self.interval_overflow_flow);
+        w.opt_f64(self.land_at);
+        w.bools(&self.left);
+        w.samples(&self.samples);
+    }
+
+    /// Read back what [`save`](Self::save) wrote; `ids` are the restored
+    /// parcels' ids.
+    pub fn restore(&mut self, r: &mut Reader, ids: &[u32]) -> Result<(), CheckpointError> {
+        let nc = self.parcel_volume.len();
+        self.carry = r.f64s_of(nc, "the feed carry")?;
+        self.next_id = r.u32()?;
+        self.ledger.fed = r.f64s_of(nc, "the ledger")?;
+        self.ledger.underflow = r.f64s_of(nc, "the ledger")?;
+        self.ledger.overflow = r.f64s_of(nc, "the ledger")?;
+        self.ledger.initial_inventory = r.f64s_of(nc, "the ledger")?;
+        self.step_underflow = r.f64s_of(nc, "the step's outflow")?;
+        self.step_overflow = r.f64s_of(nc, "the step's outflow")?;
+        self.interval_underflow = r.f64s_of(nc, "the interval's outflow")?;
+        self.interval_overflow = r.f64s_of(nc, "the interval's outflow")?;
+        self.interval_underflow_flow = r.f64()?;
+        self.interval_overflow_flow = r.f64()?;
+        self.land_at = r.opt_f64()?;
+        self.left = r.bools()?;
+        self.samples = r.samples()?;
+        if self.left.len() != self.next_id as usize || ids.iter().any(|&i| i >= self.next_id) {
+            return Err(CheckpointError::Mismatch(
+                "the parcel ids do not match the tank's count".into(),
+            ));
+        }
+        Ok(())
     }
 
     /// The outlet series recorded so far.
