@@ -12,80 +12,21 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
 use std::time::{Duration, Instant};
 
-/// Bidisperse batch column with dispersion (invented test case).
-const BATCH: &str = r#"format: 1
-title: checkpoint batch (invented test case)
-fluid:
-  water: { temperature: "18 °C" }
-solids:
-  - name: heavy
-    density: "3500 kg/m³"
-    size: { single: "60 µm" }
-    mass_share: 0.6
-  - name: light
-    density: "2000 kg/m³"
-    size: { rosin_rammler: { size_63: "45 µm", spread: 2.0 } }
-    size_classes: 3
-    mass_share: 0.4
-vessel:
-  column:
-    height: "0.12 m"
-    cross_section: { round: { diameter: "25 mm" } }
-initial:
-  loading: "10 vol%"
-models:
-  max_packing: 0.6
-run:
-  end_time: "40 s"
-  output_interval: "5 s"
-  parcels: 8000
-  seed: 17
-numerics:
-  dispersion: "1e-9 m²/s"
-output:
-  file: out/ignored.h5
-  height_bins: 30
-"#;
+/// The shared four-class column (invented test case), with some of its
+/// settings changed; each `(from, to)` must be in the file.
+fn resized(changes: &[(&str, &str)]) -> String {
+    let mut text = include_str!("../../tests/fixtures/four-class-column.yaml").to_string();
+    for (from, to) in changes {
+        assert!(text.contains(from), "fixture: `{from}` not found");
+        text = text.replacen(from, to, 1);
+    }
+    text
+}
 
 /// A small thickener that starts full (invented test case): parcels leave
 /// through both outlets and new ones are fed, so the feed carry, the next id
 /// and the table order after despawns are all in the checkpoint.
-const TANK: &str = r#"format: 1
-title: checkpoint tank (invented test case)
-fluid:
-  water: { temperature: "15 °C" }
-solids:
-  - name: invented flocs
-    density: "1450 kg/m³"
-    size: { single: "100 µm" }
-vessel:
-  thickener:
-    height: "0.5 m"
-    feed_level: "0.3 m"
-    cross_section: { round: { diameter: "0.5 m" } }
-initial:
-  loading: "2 g/L"
-operation:
-  feed_flow:
-    ramp: { from: "0.3 m³/h", to: "0.5 m³/h", start: "2 min", end: "6 min" }
-  feed_solids: "3.0 g/L"
-  underflow: { flow: "0.15 m³/h" }
-models:
-  hindered:
-    vesilind: { v0: "8 m/h", k: "0.5 L/g" }
-  max_packing: 0.6
-run:
-  end_time: "10 min"
-  output_interval: "1 min"
-  parcels: 10000
-  seed: 3
-  engine: particles
-numerics:
-  dispersion: "1e-8 m²/s"
-output:
-  file: out/ignored.h5
-  height_bins: 20
-"#;
+const TANK: &str = include_str!("../../tests/fixtures/checkpoint-tank.yaml");
 
 struct Scratch(PathBuf);
 
@@ -240,12 +181,13 @@ fn stop_and_resume_matches(name: &str, text: &str) {
 
 #[test]
 fn particle_batch_stopped_by_sigterm_resumes_bit_for_bit() {
-    stop_and_resume_matches("batch", BATCH);
+    stop_and_resume_matches("batch", &resized(&[("parcels: 3000", "parcels: 8000")]));
 }
 
 #[test]
 fn particle_thickener_stopped_by_sigterm_resumes_bit_for_bit() {
-    stop_and_resume_matches("tank", TANK);
+    // More parcels than the in-process test, so the run lasts long enough to be signalled.
+    stop_and_resume_matches("tank", &TANK.replace("parcels: 2000", "parcels: 10000"));
 }
 
 #[test]
@@ -262,7 +204,7 @@ fn continuum_stopped_by_sigterm_resumes_bit_for_bit() {
 fn resume_refuses_missing_foreign_and_damaged_checkpoints() {
     let dir = scratch("refuse");
     let scenario = dir.0.join("scenario.yaml");
-    let small = BATCH.to_string();
+    let small = resized(&[("parcels: 3000", "parcels: 8000")]);
     std::fs::write(&scenario, &small).unwrap();
     let out = dir.0.join("parts/run.h5");
     let resume = |extra: &[&str]| {

@@ -8,41 +8,16 @@ use netcdf_reader::{NcFile, NcType};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-/// A small bidisperse run with dispersion, so that the MLB mixture terms and
-/// the random walk are both exercised.
-const SCENARIO: &str = r#"format: 1
-title: thread reproducibility (cli)
-fluid:
-  water: { temperature: "18 °C" }
-solids:
-  - name: heavy
-    density: "3500 kg/m³"
-    size: { single: "60 µm" }
-    mass_share: 0.6
-  - name: light
-    density: "2000 kg/m³"
-    size: { rosin_rammler: { size_63: "45 µm", spread: 2.0 } }
-    size_classes: 3
-    mass_share: 0.4
-vessel:
-  column:
-    height: "0.12 m"
-    cross_section: { round: { diameter: "25 mm" } }
-initial:
-  loading: "10 vol%"
-models:
-  max_packing: 0.6
-run:
-  end_time: "50 s"
-  output_interval: "5 s"
-  parcels: 4000
-  seed: 17
-numerics:
-  dispersion: "1e-9 m²/s"
-output:
-  file: out/ignored.h5
-  height_bins: 40
-"#;
+/// The shared four-class column (invented test case), with some of its
+/// settings changed; each `(from, to)` must be in the file.
+fn resized(changes: &[(&str, &str)]) -> String {
+    let mut text = include_str!("../../tests/fixtures/four-class-column.yaml").to_string();
+    for (from, to) in changes {
+        assert!(text.contains(from), "fixture: `{from}` not found");
+        text = text.replacen(from, to, 1);
+    }
+    text
+}
 
 /// Length of the UTC time stamp that starts `history`: `YYYY-MM-DDTHH:MM:SSZ`.
 const STAMP: usize = 20;
@@ -84,7 +59,15 @@ fn run_output_is_identical_on_one_and_two_threads() {
     std::fs::create_dir_all(dir.0.join("one")).unwrap();
     std::fs::create_dir_all(dir.0.join("two")).unwrap();
     let scenario = dir.0.join("scenario.yaml");
-    std::fs::write(&scenario, SCENARIO).unwrap();
+    std::fs::write(
+        &scenario,
+        resized(&[
+            ("end_time: \"40 s\"", "end_time: \"50 s\""),
+            ("parcels: 3000", "parcels: 4000"),
+            ("height_bins: 30", "height_bins: 40"),
+        ]),
+    )
+    .unwrap();
     // Same file name in two directories, so that nothing can differ by name.
     let (a, b) = (dir.0.join("one/run.h5"), dir.0.join("two/run.h5"));
     run(&scenario, &a, "1");

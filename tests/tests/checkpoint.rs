@@ -14,78 +14,11 @@ use turbid_engine::scenario::{self, Setup};
 
 /// Bidisperse batch column with dispersion (invented test case): the MLB
 /// mixture terms and the random streams both matter.
-const BATCH: &str = r#"format: 1
-title: checkpoint batch (invented test case)
-fluid:
-  water: { temperature: "18 °C" }
-solids:
-  - name: heavy
-    density: "3500 kg/m³"
-    size: { single: "60 µm" }
-    mass_share: 0.6
-  - name: light
-    density: "2000 kg/m³"
-    size: { rosin_rammler: { size_63: "45 µm", spread: 2.0 } }
-    size_classes: 3
-    mass_share: 0.4
-vessel:
-  column:
-    height: "0.12 m"
-    cross_section: { round: { diameter: "25 mm" } }
-initial:
-  loading: "10 vol%"
-models:
-  max_packing: 0.6
-run:
-  end_time: "40 s"
-  output_interval: "5 s"
-  parcels: 3000
-  seed: 17
-numerics:
-  dispersion: "1e-9 m²/s"
-output:
-  file: out/ignored.h5
-  height_bins: 30
-"#;
+const BATCH: &str = include_str!("../fixtures/four-class-column.yaml");
 
 /// A small thickener that starts full, so parcels leave through both outlets
 /// (and are despawned) before the checkpoint (invented test case).
-const TANK: &str = r#"format: 1
-title: checkpoint tank (invented test case)
-fluid:
-  water: { temperature: "15 °C" }
-solids:
-  - name: invented flocs
-    density: "1450 kg/m³"
-    size: { single: "100 µm" }
-vessel:
-  thickener:
-    height: "0.5 m"
-    feed_level: "0.3 m"
-    cross_section: { round: { diameter: "0.5 m" } }
-initial:
-  loading: "2 g/L"
-operation:
-  feed_flow:
-    ramp: { from: "0.3 m³/h", to: "0.5 m³/h", start: "2 min", end: "6 min" }
-  feed_solids: "3.0 g/L"
-  underflow: { flow: "0.15 m³/h" }
-models:
-  hindered:
-    vesilind: { v0: "8 m/h", k: "0.5 L/g" }
-  max_packing: 0.6
-run:
-  end_time: "10 min"
-  output_interval: "1 min"
-  parcels: 2000
-  seed: 3
-  engine: particles
-numerics:
-  dispersion: "1e-8 m²/s"
-output:
-  file: out/ignored.h5
-  height_bins: 20
-"#;
+const TANK: &str = include_str!("../fixtures/checkpoint-tank.yaml");
 
 fn setup(text: &str) -> Setup {
     scenario::parse_str(text, Path::new("checkpoint.yaml")).unwrap()
